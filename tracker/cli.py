@@ -1,0 +1,186 @@
+"""The ``radorbit`` command: run, check, lab, spectrum. Thin wrappers over the Python API."""
+
+import argparse
+import sys
+from pathlib import Path
+
+from .errors import ScenarioError
+
+EXIT_BAD_INPUT = 2
+
+
+def _fmt_energy(joules):
+    """Energy in eV multiples for people."""
+    from .constants import e
+
+    ev = joules / e
+    for unit, scale in (("TeV", 1e12), ("GeV", 1e9), ("MeV", 1e6), ("keV", 1e3), ("eV", 1.0), ("meV", 1e-3)):
+        if abs(ev) >= scale:
+            return f"{ev / scale:.6g} {unit}"
+    return f"{ev:.4g} eV"
+
+
+def summary_rows(result):
+    """[(label, text)] of the headline numbers of a Result."""
+    s = result.summary()
+    return [
+        ("final energy", _fmt_energy(s["final_energy"])),
+        ("energy radiated", _fmt_energy(s["energy_radiated"])),
+        ("fraction lost", f"{s['fraction_lost']:.4g}"),
+        ("peak power", f"{s['peak_power']:.4g} W"),
+        ("peak chi", f"{s['peak_chi']:.4g}"),
+        ("energy balance residual", f"{s['energy_balance_residual']:.2e}"),
+        ("wall time", f"{s['wall_time']:.3f} s"),
+        ("steps/s", f"{s['steps_per_second']:.3g}"),
+        ("stop reason", result.meta.get("stop_reason", "")),
+    ]
+
+
+def print_table(columns, rows, out=None):
+    """Print a plain aligned table: columns = header list, rows = list of lists of str."""
+    out = out or sys.stdout
+    widths = [max(len(str(r[i])) for r in [columns, *rows]) for i in range(len(columns))]
+    line = "  ".join(str(c).ljust(w) for c, w in zip(columns, widths))
+    print(line, file=out)
+    print("  ".join("-" * w for w in widths), file=out)
+    for r in rows:
+        print("  ".join(str(c).ljust(w) for c, w in zip(r, widths)), file=out)
+
+
+def _progress_bar(total_label):
+    from tqdm import tqdm
+
+    bar = tqdm(total=1000, desc=total_label, unit="‰", leave=False, disable=None,
+               bar_format="{desc}: {percentage:3.0f}%|{bar}| {elapsed}<{remaining}")
+
+    def update(fraction):
+        bar.n = int(1000 * fraction)
+        bar.refresh()
+
+    return bar, update
+
+
+def cmd_run(args):
+    from . import compare, load_scenario, track
+
+    scenario = load_scenario(args.scenario)
+    plan = scenario.plan()
+    bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
+    try:
+        if args.compare:
+            pair = compare(scenario, progress=update)
+            results = {"damped": pair.damped, "undamped": pair.undamped}
+        else:
+            results = {scenario.run.radiation_reaction: track(scenario, progress=update)}
+    finally:
+        bar.close()
+    names = list(results)
+    rows = [[label, *[dict(summary_rows(r))[label] for r in results.values()]]
+            for label, _ in summary_rows(next(iter(results.values())))]
+    print(f"{scenario.title or Path(args.scenario).stem}")
+    print_table(["", *names], rows)
+    for name, r in results.items():
+        for w in r.warnings:
+            print(f"warning ({name}, {w['kind']}, t = {w['time']:.4g} s): {w['message']}")
+    if args.output:
+        out = Path(args.output)
+        for name, r in results.items():
+            path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
+            if path.suffix.lower() == ".csv":
+                r.to_csv(path)
+            else:
+                r.to_hdf5(path)
+            print(f"wrote {path}")
+    return 0
+
+
+def cmd_check(args):
+    from . import load_scenario
+    from .plan import human_bytes
+
+    scenario = load_scenario(args.scenario)
+    plan = scenario.plan()
+    p = scenario.particle
+    rows = [
+        ["title", scenario.title or "-"],
+        ["particle", f"{p.species}, gamma0 = {p.gamma:.6g}"],
+        ["fields", ", ".join(f.type for f in scenario.fields) or "none"],
+        ["pusher / damping", f"{scenario.run.pusher} / {scenario.run.radiation_reaction}"],
+        ["dt", f"{plan.dt:.6g} s"],
+        ["steps", f"{plan.steps:,}"],
+        ["saved states", f"{plan.saved_states:,} (every {plan.save_every})"],
+        ["memory estimate", human_bytes(plan.memory_bytes)],
+        ["fastest time scale", f"{plan.period:.6g} s ({plan.period_source})" if plan.period else "none found"],
+        ["resolution", f"{plan.steps_per_period:.4g} steps per period" if plan.steps_per_period else "-"],
+    ]
+    try:
+        from .regime import regime_rows
+    except ImportError:
+        regime_rows = None
+    if regime_rows is not None:
+        rows += [list(r) for r in regime_rows(scenario)]
+    print_table(["check", "value"], rows)
+    print("scenario is valid")
+    return 0
+
+
+def cmd_lab(args):
+    from ui.app import serve
+
+    return serve(args.scenario, port=args.port, address=args.address, show=args.show) or 0
+
+
+def cmd_spectrum(args):
+    from .radiation.cli import run_spectrum
+
+    return run_spectrum(args) or 0
+
+
+def build_parser():
+    parser = argparse.ArgumentParser(prog="radorbit", description="Charged-particle orbits with radiation reaction.")
+    sub = parser.add_subparsers(dest="command", required=True)
+
+    run = sub.add_parser("run", help="track a scenario and print a summary")
+    run.add_argument("scenario", help="scenario TOML file")
+    run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
+    run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    run.set_defaults(func=cmd_run)
+
+    check = sub.add_parser("check", help="validate a scenario and print its plan")
+    check.add_argument("scenario", help="scenario TOML file")
+    check.set_defaults(func=cmd_check)
+
+    lab = sub.add_parser("lab", help="open the browser lab")
+    lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")
+    lab.add_argument("--port", type=int, default=5006, help="port (default 5006)")
+    lab.add_argument("--address", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
+    lab.add_argument("--show", action="store_true", help="open a browser tab")
+    lab.set_defaults(func=cmd_lab)
+
+    spectrum = sub.add_parser("spectrum", help="radiation spectrum of a saved result")
+    spectrum.add_argument("result", help="result file written by `radorbit run -o`")
+    spectrum.add_argument("--direction", action="append", metavar="NX,NY,NZ",
+                          help="observer direction (repeatable; default: along the mean velocity)")
+    spectrum.add_argument("--omega-range", metavar="LOW,HIGH,N",
+                          help="angular frequency grid, rad/s or with units, e.g. '1e15,1e19,400' ")
+    spectrum.add_argument("--method", choices=("direct", "nufft", "synchrotron"), default="nufft")
+    spectrum.add_argument("-o", "--output", help="write the table (.h5 or .csv)")
+    spectrum.set_defaults(func=cmd_spectrum)
+    return parser
+
+
+def main(argv=None):
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except ScenarioError as exc:
+        print(f"radorbit: error: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("radorbit: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

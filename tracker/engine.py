@@ -1,0 +1,157 @@
+"""Turn a Scenario into a Result: compile to arrays, run the kernel in chunks, collect."""
+
+import math
+import time
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass
+
+import numpy as np
+
+from . import constants as k
+from .config import CHUNK_STEPS
+from .kernel import FINISHED, NONFINITE, STATE_SIZE, run_chunk
+from .pushers import PUSHERS
+from .pushers.dispatch import push
+from .radiation.power import chi_scale, power_scale
+from .radiation.reaction import MODELS as RR_MODELS
+from .result import Result
+
+STOP_COMPLETED = "completed"
+STOP_CANCELLED = "cancelled"
+STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
+
+
+@dataclass
+class Comparison:
+    """The same scenario with (``damped``) and without (``undamped``) radiation reaction."""
+
+    damped: Result
+    undamped: Result
+
+
+def _is_cancelled(cancel):
+    if cancel is None:
+        return False
+    if hasattr(cancel, "is_set"):
+        return cancel.is_set()
+    return bool(cancel())
+
+
+def species_row(scenario):
+    """[q/m (C/kg), tau0 (s), q^2 tau0/m, |q| hbar/(m^2 c^3), q (C)] for the kernel."""
+    q, m = scenario.particle.charge, scenario.particle.mass
+    return np.array([q / m, k.tau0(q, m), power_scale(q, m), chi_scale(q, m), q], dtype=np.float64)
+
+
+def initial_state(scenario, dt):
+    """Kernel state at t = 0: u pushed back half a step (Lorentz only), fields one step back."""
+    p = scenario.particle
+    kinds, params = scenario.field_table
+    x0 = np.array(p.position, dtype=float)
+    u0 = p.u
+    e0, b0 = scenario.fields_at(x0[None, :], 0.0)
+    qm = p.charge / p.mass
+    h = -0.5 * dt
+    u_half = push(PUSHERS[scenario.run.pusher], u0[0], u0[1], u0[2],
+                  *(0.5 * qm * h / k.c * e0[0]), *(0.5 * qm * h * b0[0]))
+    gamma0 = math.sqrt(1.0 + float(u0 @ u0))
+    x_back = x0 - k.c * dt * u0 / gamma0
+    e_back, b_back = scenario.fields_at(x_back[None, :], -dt)
+    state = np.zeros(STATE_SIZE)
+    state[0:3] = x0
+    state[3:6] = u_half
+    state[11:14] = e_back[0]
+    state[14:17] = b_back[0]
+    return state
+
+
+def track(scenario, progress=None, cancel=None):
+    """Integrate one scenario and return its Result (SI units throughout).
+
+    Parameters
+    ----------
+    scenario : Scenario
+    progress : callable(fraction: float), optional
+        Called between chunks of ``config.CHUNK_STEPS`` steps with the fraction done.
+    cancel : threading.Event or callable() -> bool, optional
+        Checked between chunks; a cancelled run returns the states computed so far
+        with ``meta["complete"] = False`` and ``meta["stop_reason"] = "cancelled"``.
+    """
+    plan = scenario.plan()
+    kinds, params = scenario.field_table
+    n = plan.saved_states
+    out = {name: np.empty(n) for name in ("t", "gamma", "power", "radiated_energy", "field_work", "chi", "dt")}
+    out["x"] = np.empty((n, 3))
+    out["u"] = np.empty((n, 3))
+    state = initial_state(scenario, plan.dt)
+    sp = species_row(scenario)
+    pusher = PUSHERS[scenario.run.pusher]
+    damping = RR_MODELS[scenario.run.radiation_reaction]
+    chunk = max(plan.save_every, (CHUNK_STEPS // plan.save_every) * plan.save_every)
+
+    saved = 0
+    stop = STOP_COMPLETED
+    start = time.perf_counter()
+    while True:
+        saved, status = run_chunk(kinds, params, sp, plan.dt, plan.steps, plan.save_every, pusher, damping,
+                                  state, chunk, out["t"], out["x"], out["u"], out["gamma"], out["power"],
+                                  out["radiated_energy"], out["field_work"], out["chi"], out["dt"], saved)
+        done = int(state[17])
+        if progress is not None:
+            progress(min(1.0, done / plan.steps))
+        if status == FINISHED:
+            break
+        if status == NONFINITE:
+            stop = STOP_NONFINITE
+            break
+        if _is_cancelled(cancel):
+            stop = STOP_CANCELLED
+            break
+    wall = time.perf_counter() - start
+    arrays = {name: a[:saved].copy() for name, a in out.items()}
+    meta = {
+        "steps": int(state[17]),
+        "planned_steps": plan.steps,
+        "dt": plan.dt,
+        "steps_per_period": plan.steps_per_period,
+        "period_source": plan.period_source,
+        "wall_time": wall,
+        "steps_per_second": int(state[17]) / wall if wall > 0 else float("nan"),
+        "stop_reason": stop,
+        "complete": stop == STOP_COMPLETED,
+        "pusher": scenario.run.pusher,
+        "radiation_reaction": scenario.run.radiation_reaction,
+    }
+    return Result(scenario=scenario, meta=meta, **arrays)
+
+
+def damped_and_undamped(scenario):
+    """(damped, undamped) scenarios: radiation reaction on (the scenario's model, or
+    Landau-Lifshitz if it had none) and off."""
+    model = scenario.run.radiation_reaction
+    damped = scenario if model != "none" else scenario.with_run(radiation_reaction="landau-lifshitz")
+    return damped, scenario.with_run(radiation_reaction="none")
+
+
+def compare(scenario, progress=None, cancel=None):
+    """Run the scenario with and without radiation reaction, side by side on two threads.
+
+    ``progress`` receives the mean fraction done of the two runs; ``cancel`` stops both.
+    """
+    damped, undamped = damped_and_undamped(scenario)
+    fractions = [0.0, 0.0]
+
+    def reporter(i):
+        if progress is None:
+            return None
+
+        def report(fraction):
+            fractions[i] = fraction
+            progress(0.5 * (fractions[0] + fractions[1]))
+
+        return report
+
+    with ThreadPoolExecutor(max_workers=2) as pool:
+        jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate((damped, undamped))]
+        results = [job.result() for job in jobs]
+    return Comparison(damped=results[0], undamped=results[1])

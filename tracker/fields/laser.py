@@ -1,0 +1,127 @@
+"""Plane-wave laser pulse defined through its vector potential (exact Maxwell solution)."""
+
+import math
+
+from numba import njit
+
+from .. import constants as k
+from ..config import KERNEL
+from ..errors import ScenarioError
+from .base import ABSENT, FieldModel, Param, cross, dot, unit_vector
+
+PLANE_WAVE = 5
+ENVELOPE_SIN2 = 0.0
+ENVELOPE_GAUSSIAN = 1.0
+
+#: intensity FWHM of a cos^2 amplitude envelope as a fraction of its full length:
+#: cos^4(pi s/T) = 1/2  ->  FWHM = (2/pi) arccos(2^-1/4) T.
+SIN2_FWHM_FRACTION = 2.0 / math.pi * math.acos(2.0 ** -0.25)
+
+
+@njit(**KERNEL)
+def plane_wave_field(p, x, y, z, t):
+    """Plane-wave pulse from the normalised vector potential a(s), s = t - n.(r - r_peak)/c.
+
+    a(s) = a0 g(s) [e1 cos(w s + phase) + h e2 sin(w s + phase)],  h = 0 linear, 1 circular
+    E = -(m_e c/e) da/ds,  B = n x E / c   (Jackson sec. 7.1; a0 = e E0/(m_e c w)).
+    Defining the envelope on the potential keeps the pulse free of a DC part.
+    p = [A (= a0 m_e c/e, V s/m), w, nx, ny, nz, e1(3), h*e2(3), envelope, width, n.r_peak, phase].
+    """
+    w = p[1]
+    s = t - (p[2] * x + p[3] * y + p[4] * z - p[14]) / k.c
+    width = p[13]
+    if p[12] == 0.0:
+        # cos^2 amplitude over a full length `width`
+        if abs(s) >= 0.5 * width:
+            return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
+        arg = math.pi * s / width
+        g = math.cos(arg) ** 2
+        dg = -(math.pi / width) * math.sin(2.0 * arg)
+    else:
+        # Gaussian amplitude with intensity FWHM `width`
+        c4 = 4.0 * math.log(2.0) / (width * width)
+        g = math.exp(-0.5 * c4 * s * s)
+        dg = -c4 * s * g
+    ph = w * s + p[15]
+    cs = math.cos(ph)
+    sn = math.sin(ph)
+    # E = -A [g' (e1 cos + e2 sin) + g w (-e1 sin + e2 cos)]
+    c1 = -p[0] * (dg * cs - g * w * sn)
+    c2 = -p[0] * (dg * sn + g * w * cs)
+    ex = c1 * p[5] + c2 * p[8]
+    ey = c1 * p[6] + c2 * p[9]
+    ez = c1 * p[7] + c2 * p[10]
+    inv_c = 1.0 / k.c
+    bx = (p[3] * ez - p[4] * ey) * inv_c
+    by = (p[4] * ex - p[2] * ez) * inv_c
+    bz = (p[2] * ey - p[3] * ex) * inv_c
+    return ex, ey, ez, bx, by, bz
+
+
+def a0_of(v):
+    """a0 of a plane-wave parameter set (from a0 or E0), dimensionless."""
+    if v.get("a0") is not None:
+        return v["a0"]
+    omega = 2.0 * math.pi * k.c / v["wavelength"]
+    return v["E0"] * k.e / (k.m_e * k.c * omega)
+
+
+def polarization_vectors(v):
+    """(n, e1, e2): propagation direction and the two polarisation unit vectors."""
+    n = unit_vector(v["direction"], "direction")
+    axis = v.get("polarization_axis")
+    if axis is None:
+        trial = (1.0, 0.0, 0.0) if abs(n[0]) < 0.9 else (0.0, 1.0, 0.0)
+    else:
+        trial = axis
+    along = dot(trial, n)
+    e1 = unit_vector(tuple(a - along * b for a, b in zip(trial, n)), "polarization_axis")
+    return n, e1, cross(n, e1)
+
+
+def _check(v, key):
+    if (v.get("a0") is None) == (v.get("E0") is None):
+        raise ScenarioError(f"{key}.a0", "give exactly one of a0 and E0.")
+    unit_vector(v["direction"], f"{key}.direction")
+    axis = v.get("polarization_axis")
+    if axis is not None:
+        n = unit_vector(v["direction"], f"{key}.direction")
+        a = unit_vector(axis, f"{key}.polarization_axis")
+        if abs(dot(a, n)) > 1.0 - 1e-9:
+            raise ScenarioError(f"{key}.polarization_axis", f"must not be parallel to direction, not {list(axis)!r}.")
+
+
+def _pack(v):
+    omega = 2.0 * math.pi * k.c / v["wavelength"]
+    amplitude = a0_of(v) * k.m_e * k.c / k.e
+    n, e1, e2 = polarization_vectors(v)
+    h = 1.0 if v["polarization"] == "circular" else 0.0
+    if v["envelope"] == "sin2":
+        envelope, width = ENVELOPE_SIN2, v["duration"] / SIN2_FWHM_FRACTION
+    else:
+        envelope, width = ENVELOPE_GAUSSIAN, v["duration"]
+    return [amplitude, omega, *n, *e1, *(h * c for c in e2), envelope, width, dot(n, v["peak_position"]), v["phase"]]
+
+
+MODEL = FieldModel(
+    name="plane-wave", code=PLANE_WAVE, label="Plane-wave laser pulse",
+    params=(
+        Param("a0", "scalar", "dimensionless", ABSENT, positive=True, doc="normalised amplitude e E0/(m_e c w); or give E0"),
+        Param("E0", "scalar", "electric_field", ABSENT, positive=True, doc="peak field amplitude; or give a0"),
+        Param("wavelength", "scalar", "length", positive=True, doc="laser wavelength"),
+        Param("direction", "vector", "dimensionless", (0.0, 0.0, 1.0), doc="propagation direction"),
+        Param("polarization", "choice", default="linear", choices=("linear", "circular")),
+        Param("polarization_axis", "vector", "dimensionless", ABSENT, doc="E direction at zero phase (made normal to direction)"),
+        Param("envelope", "choice", default="sin2", choices=("sin2", "gaussian")),
+        Param("duration", "scalar", "time", positive=True, doc="FWHM of the intensity envelope"),
+        Param("peak_position", "vector", "length", (0.0, 0.0, 0.0), doc="where the envelope peak is at t = 0"),
+        Param("phase", "scalar", "angle", 0.0, doc="carrier phase at the envelope peak"),
+    ),
+    pack=_pack,
+    check=_check,
+    doc=(
+        "Plane wave from a(s) = a0 g(s) cos(w s + phase) on the vector potential. `duration` is the "
+        "FWHM of the intensity |a|^2 envelope; for sin2 the amplitude envelope is cos^2(pi s/T) over a "
+        "full length T = duration/0.364. Circular: each of the two components has amplitude a0."
+    ),
+)

@@ -1,0 +1,91 @@
+"""Run plan: the time step that resolves the fastest initial time scale, step count, memory."""
+
+import math
+from dataclasses import dataclass
+
+from . import constants as k
+from .config import BYTES_PER_SAVED_STATE, DEFAULT_STEPS_PER_PERIOD
+from .errors import ScenarioError
+
+
+@dataclass(frozen=True)
+class RunPlan:
+    """dt in s, counts of steps and saved states, memory of the saved arrays in bytes.
+
+    ``period`` (s) is the fastest initial time scale and ``period_source`` names it;
+    ``steps_per_period`` is period/dt (None without a time scale).
+    """
+
+    dt: float
+    steps: int
+    save_every: int
+    saved_states: int
+    memory_bytes: int
+    period: float | None
+    period_source: str
+    steps_per_period: float | None
+
+
+def human_bytes(n):
+    """'1.2 GiB' style size."""
+    for unit in ("B", "KiB", "MiB", "GiB", "TiB"):
+        if n < 1024 or unit == "TiB":
+            return f"{n:.1f} {unit}" if unit != "B" else f"{n} B"
+        n /= 1024.0
+
+
+def time_scales(scenario):
+    """[(period in s, description)] of the initial gyration and every field period seen by the particle."""
+    p = scenario.particle
+    u = p.u
+    gamma = math.sqrt(1.0 + float(u @ u))
+    beta = u / gamma
+    scales = []
+    _, b = scenario.fields_at([p.position], 0.0)
+    bmag = float((b[0] @ b[0]) ** 0.5)
+    if bmag > 0:
+        scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * bmag), "relativistic gyration at the start"))
+    for i, f in enumerate(scenario.fields):
+        v = f.params
+        if f.type == "plane-wave":
+            from .fields.laser import polarization_vectors
+
+            n, _, _ = polarization_vectors(v)
+            doppler = 1.0 - float(beta @ n)
+            scales.append((v["wavelength"] / (k.c * doppler), f"field[{i}] laser period seen by the particle"))
+        elif f.type == "undulator":
+            if abs(v["B0"]) > 0:
+                scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * abs(v["B0"])),
+                               f"field[{i}] gyration at the undulator peak field"))
+            if abs(beta[2]) > 0:
+                scales.append((v["period"] / (k.c * abs(beta[2])), f"field[{i}] undulator period transit"))
+    return scales
+
+
+def make_plan(scenario):
+    """Resolve dt and the step count of a scenario; refuse plans above run.max_steps."""
+    run = scenario.run
+    scales = time_scales(scenario)
+    period, source = min(scales) if scales else (None, "none")
+    if run.dt is not None:
+        dt_wanted = run.dt
+    else:
+        if period is None:
+            raise ScenarioError(
+                "run.steps_per_period",
+                "there is no magnetic field or laser at the start to set the step from; give run.dt instead.",
+            )
+        dt_wanted = period / (run.steps_per_period or DEFAULT_STEPS_PER_PERIOD)
+    steps = max(1, math.ceil(run.duration / dt_wanted * (1.0 - 1e-12)))
+    dt = run.duration / steps
+    saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
+    memory = saved * BYTES_PER_SAVED_STATE
+    if steps > run.max_steps:
+        raise ScenarioError(
+            "run.max_steps",
+            f"the plan needs {steps:,} steps (dt = {dt:.4g} s over {run.duration:.4g} s), more than "
+            f"max_steps = {run.max_steps:,}; it would keep {saved:,} states ({human_bytes(memory)}). "
+            "Raise run.max_steps, shorten run.duration or give a coarser resolution.",
+        )
+    return RunPlan(dt, steps, run.save_every, saved, memory, period, source,
+                   period / dt if period else None)

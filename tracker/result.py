@@ -1,0 +1,160 @@
+"""Result of a run: saved states with units, the Scenario that made them, and metadata."""
+
+import csv
+import json
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import constants as k
+from .io import atomic_path
+
+#: saved arrays and their SI units (the HDF5 "unit" attribute and CSV headers use these)
+ARRAYS = {
+    "t": "s",
+    "x": "m",
+    "u": "1 (gamma*beta)",
+    "gamma": "1",
+    "power": "W",
+    "radiated_energy": "J",
+    "field_work": "J",
+    "chi": "1",
+    "dt": "s",
+}
+FORMAT = "radorbit-result"
+FORMAT_VERSION = 1
+
+
+@dataclass
+class Result:
+    """Saved states of one particle.
+
+    Attributes
+    ----------
+    t : ndarray, shape (n,), s
+    x : ndarray, shape (n, 3), m
+    u : ndarray, shape (n, 3), gamma*beta (synchronous with x)
+    gamma : ndarray, shape (n,)
+    power : ndarray, shape (n,), W -- instantaneous Lienard power of the state
+    radiated_energy : ndarray, shape (n,), J -- cumulative integral of ``power``
+    field_work : ndarray, shape (n,), J -- cumulative work done by E
+    chi : ndarray, shape (n,) -- quantum parameter
+    dt : ndarray, shape (n,), s -- step in use at each saved state
+    scenario : Scenario
+    meta : dict -- steps, wall_time (s), stop_reason, complete, ...
+    warnings : list of dict -- kind, message, time (s)
+    """
+
+    t: np.ndarray
+    x: np.ndarray
+    u: np.ndarray
+    gamma: np.ndarray
+    power: np.ndarray
+    radiated_energy: np.ndarray
+    field_work: np.ndarray
+    chi: np.ndarray
+    dt: np.ndarray
+    scenario: object
+    meta: dict = field(default_factory=dict)
+    warnings: list = field(default_factory=list)
+
+    # ------------------------------------------------------------------ derived
+    @property
+    def rest_energy(self):
+        """m c^2 of the particle in J."""
+        return self.scenario.particle.mass * k.c**2
+
+    @property
+    def kinetic_energy(self):
+        """(gamma - 1) m c^2 in J, shape (n,)."""
+        return (self.gamma - 1.0) * self.rest_energy
+
+    @property
+    def complete(self):
+        """False when the run was cancelled or stopped early (partial result)."""
+        return bool(self.meta.get("complete", False))
+
+    def energy_balance_residual(self):
+        """[Delta KE - (field work - radiated)] / initial kinetic energy (dimensionless).
+
+        Zero for an exact integration when radiation reaction is on; for an undamped
+        orbit the radiated energy is only what it *would* radiate, so the balance
+        is Delta KE = field work. See ``energy_balance_error`` for the value in J.
+        """
+        ke0 = self.kinetic_energy[0]
+        return float(self.energy_balance_error() / ke0) if ke0 > 0 else float("nan")
+
+    def energy_balance_error(self):
+        """Delta KE - (field work - radiated energy) in J at the last saved state."""
+        d_ke = self.kinetic_energy[-1] - self.kinetic_energy[0]
+        damped = self.scenario.run.radiation_reaction != "none"
+        loss = self.radiated_energy[-1] if damped else 0.0
+        return float(d_ke - (self.field_work[-1] - loss))
+
+    def summary(self):
+        """Headline numbers: energies in J, power in W, fractions dimensionless, wall time s."""
+        ke0 = self.kinetic_energy[0]
+        steps = self.meta.get("steps", 0)
+        wall = self.meta.get("wall_time", float("nan"))
+        return {
+            "final_energy": float(self.gamma[-1] * self.rest_energy),
+            "final_kinetic_energy": float(self.kinetic_energy[-1]),
+            "energy_radiated": float(self.radiated_energy[-1]),
+            "fraction_lost": float(self.radiated_energy[-1] / ke0) if ke0 > 0 else float("nan"),
+            "peak_power": float(np.max(self.power)),
+            "peak_chi": float(np.max(self.chi)),
+            "energy_balance_residual": self.energy_balance_residual(),
+            "wall_time": wall,
+            "steps": steps,
+            "steps_per_second": steps / wall if wall and wall > 0 else float("nan"),
+        }
+
+    # ------------------------------------------------------------------ files
+    def to_hdf5(self, path):
+        """Write arrays (with unit attributes), the scenario TOML and metadata; atomic."""
+        import h5py
+
+        with atomic_path(path) as tmp:
+            with h5py.File(tmp, "w") as h5:
+                h5.attrs["format"] = FORMAT
+                h5.attrs["format_version"] = FORMAT_VERSION
+                h5.attrs["scenario_toml"] = self.scenario.to_toml()
+                h5.attrs["meta_json"] = json.dumps(self.meta)
+                h5.attrs["warnings_json"] = json.dumps(self.warnings)
+                h5.attrs["complete"] = self.complete
+                for name, unit in ARRAYS.items():
+                    ds = h5.create_dataset(name, data=getattr(self, name))
+                    ds.attrs["unit"] = unit
+        return path
+
+    def to_csv(self, path):
+        """One row per saved state, SI units in the header; atomic."""
+        header = ["t_s", "x_m", "y_m", "z_m", "ux", "uy", "uz", "gamma", "power_W",
+                  "radiated_energy_J", "field_work_J", "chi", "dt_s"]
+        columns = np.column_stack([self.t, self.x, self.u, self.gamma, self.power, self.radiated_energy,
+                                   self.field_work, self.chi, self.dt])
+        with atomic_path(path) as tmp:
+            with open(tmp, "w", newline="", encoding="utf-8") as fh:
+                fh.write(f"# radorbit result: {self.scenario.title or 'untitled'}; "
+                         f"complete={self.complete}; stop_reason={self.meta.get('stop_reason', '')}\n")
+                writer = csv.writer(fh)
+                writer.writerow(header)
+                for row in columns:
+                    writer.writerow([repr(float(v)) for v in row])
+        return path
+
+
+def load_result(path):
+    """Read a Result written by ``Result.to_hdf5`` (path to .h5)."""
+    import h5py
+
+    from .scenario import Scenario
+
+    with h5py.File(path, "r") as h5:
+        if h5.attrs.get("format") != FORMAT:
+            raise ValueError(f"{path}: not a radorbit result file.")
+        arrays = {name: h5[name][()] for name in ARRAYS}
+        scenario = Scenario.from_toml(str(h5.attrs["scenario_toml"]))
+        meta = json.loads(h5.attrs["meta_json"])
+        warnings = json.loads(h5.attrs["warnings_json"])
+    return Result(scenario=scenario, meta=meta, warnings=warnings, **arrays)

@@ -1,0 +1,46 @@
+"""Write a scenario dict as TOML with SI unit comments (exact float round trip via repr)."""
+
+import json
+
+from .fields import MODELS as FIELD_MODELS
+
+RUN_UNITS = {"duration": "s", "dt": "s"}
+PARTICLE_UNITS = {"position": "m", "kinetic_energy": "J", "speed": "m/s", "momentum": "kg m/s",
+                  "mass": "kg", "charge": "C", "gamma": "", "u": "gamma*beta"}
+
+
+def _value(v):
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, int):
+        return str(v)
+    if isinstance(v, float):
+        return repr(v)
+    if isinstance(v, str):
+        return json.dumps(v, ensure_ascii=False)
+    if isinstance(v, (list, tuple)):
+        return "[" + ", ".join(_value(x) for x in v) + "]"
+    raise TypeError(f"cannot write {v!r} to TOML")
+
+
+def _lines(table, units):
+    out = []
+    for key, v in table.items():
+        unit = units.get(key, "")
+        out.append(f"{key} = {_value(v)}" + (f"  # {unit}" if unit else ""))
+    return out
+
+
+def scenario_toml(data):
+    """TOML text for ``Scenario.to_dict()`` output."""
+    lines = ["# radorbit scenario (values in SI units)"]
+    for key in ("title", "description"):
+        if key in data:
+            lines.append(f"{key} = {_value(data[key])}")
+    lines += ["", "[run]", *_lines(data["run"], RUN_UNITS)]
+    lines += ["", "[particle]", *_lines(data["particle"], PARTICLE_UNITS)]
+    for f in data.get("field", []):
+        model = FIELD_MODELS[f["type"]]
+        units = {p.name: p.unit for p in model.params}
+        lines += ["", "[[field]]", *_lines(f, units)]
+    return "\n".join(lines) + "\n"

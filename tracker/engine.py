@@ -9,7 +9,9 @@ import numpy as np
 
 from . import constants as k
 from .config import CHUNK_STEPS
-from .kernel import FINISHED, NONFINITE, STATE_SIZE, run_chunk
+from .kernel import (FINISHED, NONFINITE, PL_ADAPTIVE, PL_DAMPING, PL_DT, PL_DTMAX, PL_DTMIN, PL_LAST,
+                     PL_PUSHER, PL_SAVE, PL_SPP, PL_TEND, PLAN_SIZE, ST_BPREV, ST_DTPREV, ST_EPREV, ST_STEP,
+                     ST_T, ST_U, ST_X, STATE_SIZE, run_chunk)
 from .pushers import PUSHERS
 from .pushers.dispatch import push
 from .radiation.power import chi_scale, power_scale
@@ -19,6 +21,7 @@ from .result import Result
 STOP_COMPLETED = "completed"
 STOP_CANCELLED = "cancelled"
 STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
+STOP_MAX_STEPS = "max_steps reached before the end of the run"
 
 
 @dataclass
@@ -46,7 +49,6 @@ def species_row(scenario):
 def initial_state(scenario, dt):
     """Kernel state at t = 0: u pushed back half a step (Lorentz only), fields one step back."""
     p = scenario.particle
-    kinds, params = scenario.field_table
     x0 = np.array(p.position, dtype=float)
     u0 = p.u
     e0, b0 = scenario.fields_at(x0[None, :], 0.0)
@@ -58,11 +60,29 @@ def initial_state(scenario, dt):
     x_back = x0 - k.c * dt * u0 / gamma0
     e_back, b_back = scenario.fields_at(x_back[None, :], -dt)
     state = np.zeros(STATE_SIZE)
-    state[0:3] = x0
-    state[3:6] = u_half
-    state[11:14] = e_back[0]
-    state[14:17] = b_back[0]
+    state[ST_X:ST_X + 3] = x0
+    state[ST_U:ST_U + 3] = u_half
+    state[ST_EPREV:ST_EPREV + 3] = e_back[0]
+    state[ST_BPREV:ST_BPREV + 3] = b_back[0]
+    state[ST_DTPREV] = dt
     return state
+
+
+def plan_row(scenario, plan):
+    """The kernel's float64 plan row (see tracker.kernel PL_* slots)."""
+    run = scenario.run
+    row = np.zeros(PLAN_SIZE)
+    row[PL_DT] = plan.dt
+    row[PL_LAST] = plan.steps if not plan.adaptive else run.max_steps
+    row[PL_SAVE] = plan.save_every
+    row[PL_PUSHER] = PUSHERS[run.pusher]
+    row[PL_DAMPING] = RR_MODELS[run.radiation_reaction]
+    row[PL_ADAPTIVE] = 1.0 if plan.adaptive else 0.0
+    row[PL_SPP] = plan.steps_per_period or 0.0
+    row[PL_DTMIN] = plan.dt_min
+    row[PL_DTMAX] = plan.dt_max
+    row[PL_TEND] = run.duration
+    return row
 
 
 def track(scenario, progress=None, cancel=None):
@@ -79,27 +99,23 @@ def track(scenario, progress=None, cancel=None):
     """
     plan = scenario.plan()
     kinds, params = scenario.field_table
-    n = plan.saved_states
-    out = {name: np.empty(n) for name in ("t", "gamma", "power", "radiated_energy", "field_work", "chi", "dt")}
-    out["x"] = np.empty((n, 3))
-    out["u"] = np.empty((n, 3))
     state = initial_state(scenario, plan.dt)
-    sp = species_row(scenario)
-    pusher = PUSHERS[scenario.run.pusher]
-    damping = RR_MODELS[scenario.run.radiation_reaction]
+    species = species_row(scenario)
+    row = plan_row(scenario, plan)
     chunk = max(plan.save_every, (CHUNK_STEPS // plan.save_every) * plan.save_every)
-
-    saved = 0
+    capacity = chunk // plan.save_every + 2
+    pieces = []
     stop = STOP_COMPLETED
     start = time.perf_counter()
     while True:
-        saved, status = run_chunk(kinds, params, sp, plan.dt, plan.steps, plan.save_every, pusher, damping,
-                                  state, chunk, out["t"], out["x"], out["u"], out["gamma"], out["power"],
-                                  out["radiated_energy"], out["field_work"], out["chi"], out["dt"], saved)
-        done = int(state[17])
+        buffers = _buffers(capacity)
+        saved, status = run_chunk(kinds, params, species, row, state, chunk, *buffers.values())
+        pieces.append({name: a[:saved] for name, a in buffers.items()})
         if progress is not None:
-            progress(min(1.0, done / plan.steps))
+            progress(_fraction_done(state, plan, scenario))
         if status == FINISHED:
+            if plan.adaptive and state[ST_T] < scenario.run.duration * (1.0 - 1e-9):
+                stop = STOP_MAX_STEPS
             break
         if status == NONFINITE:
             stop = STOP_NONFINITE
@@ -108,21 +124,48 @@ def track(scenario, progress=None, cancel=None):
             stop = STOP_CANCELLED
             break
     wall = time.perf_counter() - start
-    arrays = {name: a[:saved].copy() for name, a in out.items()}
+    arrays = {name: np.concatenate([p[name] for p in pieces]) for name in pieces[0]}
+    steps = int(state[ST_STEP])
     meta = {
-        "steps": int(state[17]),
+        "steps": steps,
         "planned_steps": plan.steps,
         "dt": plan.dt,
+        "adaptive": plan.adaptive,
         "steps_per_period": plan.steps_per_period,
         "period_source": plan.period_source,
         "wall_time": wall,
-        "steps_per_second": int(state[17]) / wall if wall > 0 else float("nan"),
+        "steps_per_second": steps / wall if wall > 0 else float("nan"),
         "stop_reason": stop,
         "complete": stop == STOP_COMPLETED,
         "pusher": scenario.run.pusher,
         "radiation_reaction": scenario.run.radiation_reaction,
     }
-    return Result(scenario=scenario, meta=meta, **arrays)
+    result = Result(scenario=scenario, meta=meta, **arrays)
+    _attach_warnings(result)
+    return result
+
+
+def _attach_warnings(result):
+    """Validity checks after every run (tracker.validity), when that module is present."""
+    try:
+        from .validity import check_result
+    except ImportError:
+        return
+    result.warnings = check_result(result)
+
+
+def _buffers(n):
+    out = {name: np.empty(n) for name in ("t", "x", "u", "gamma", "power", "radiated_energy", "field_work",
+                                         "chi", "dt")}
+    out["x"] = np.empty((n, 3))
+    out["u"] = np.empty((n, 3))
+    return out
+
+
+def _fraction_done(state, plan, scenario):
+    if plan.adaptive:
+        return min(1.0, state[ST_T] / scenario.run.duration)
+    return min(1.0, state[ST_STEP] / plan.steps)
 
 
 def damped_and_undamped(scenario):

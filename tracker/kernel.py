@@ -3,18 +3,17 @@
 Leapfrog layout: x at integer steps, u = gamma v/c at half steps. Step n:
 
 1. E, B at (x^n, t^n) from the field table;
-2. Lorentz push u^{n-1/2} -> u_L with the selected pusher;
-3. synchronous state at t^n: gamma = (gamma^{n-1/2} + gamma_L)/2, u along
+2. (adaptive runs) dt^n from the fastest local time scale, see ``local_step``;
+3. Lorentz push u^{n-1/2} -> u_L over (dt^{n-1} + dt^n)/2 with the selected pusher;
+4. synchronous state at t^n: gamma = (gamma^{n-1/2} + gamma_L)/2, u along
    (u^{n-1/2} + u_L) rescaled to that gamma (removes the theta^2/8 shortfall of a
    plain average of two rotated vectors);
-4. diagnostics at t^n: Lienard power, chi, E.v; cumulative radiated energy
-   and field work by the trapezoidal rule;
-5. radiation reaction kick u_L -> u^{n+1/2} evaluated at the synchronous state
+5. diagnostics at t^n: Lienard power (times g(chi) for the quantum-corrected
+   model), chi, q E.v; cumulative radiated energy and field work by the
+   trapezoidal rule;
+6. radiation-reaction kick u_L -> u^{n+1/2} evaluated at the synchronous state
    (operator splitting, common practice; Tamburini et al. 2010, from memory);
-6. x^{n+1} = x^n + c dt u^{n+1/2}/gamma^{n+1/2}.
-
-State vector (float64, STATE_SIZE): x(3), u_half(3), t, radiated, work,
-power_prev, work_rate_prev, E_prev(3), B_prev(3), step.
+7. x^{n+1} = x^n + c dt^n u^{n+1/2}/gamma^{n+1/2}.
 """
 
 import math
@@ -24,53 +23,112 @@ from numba import njit
 from . import constants as k
 from .config import KERNEL
 from .fields.evaluate import field_at
+from .fields.laser import PLANE_WAVE
+from .fields.undulator import UNDULATOR
 from .pushers.dispatch import push
 from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
-from .radiation.reaction import NONE, ll_kick
+from .radiation.quantum import gaunt_factor
+from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, ll_kick
 
-STATE_SIZE = 18
+# state vector slots
+ST_X, ST_U, ST_T, ST_RAD, ST_WORK, ST_PPREV, ST_WPREV, ST_EPREV, ST_BPREV, ST_STEP, ST_DTPREV = (
+    0, 3, 6, 7, 8, 9, 10, 11, 14, 17, 18)
+STATE_SIZE = 19
 # species row
 SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE = range(5)
+# plan row
+(PL_DT, PL_LAST, PL_SAVE, PL_PUSHER, PL_DAMPING, PL_ADAPTIVE, PL_SPP, PL_DTMIN, PL_DTMAX, PL_TEND) = range(10)
+PLAN_SIZE = 10
 # status codes
 RUNNING, FINISHED, NONFINITE = 0, 1, 2
 
 
 @njit(**KERNEL)
-def run_chunk(kinds, params, species, dt, last_step, save_every, pusher, damping, state, n_steps,
-              out_t, out_x, out_u, out_gamma, out_power, out_radiated, out_work, out_chi, out_dt, saved):
-    """Advance ``state`` by up to ``n_steps`` steps, writing saved states from index ``saved``.
+def local_step(kinds, params, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, steps_per_period, dt_min, dt_max):
+    """dt (s) resolving the fastest local time scale by ``steps_per_period``, within [dt_min, dt_max].
 
-    Returns (number of states saved so far, status). Units: SI, u dimensionless.
+    Scales: relativistic gyration |q| |B|/(gamma m), the electric rotation rate
+    |q| |E|/(gamma m c), each laser's frequency seen by the particle w (1 - n.beta)
+    and each undulator's period transit k_u c |beta_z|.
+    """
+    omega = abs(qm) * math.sqrt(fbx * fbx + fby * fby + fbz * fbz) / gamma
+    omega_e = abs(qm) * math.sqrt(ex * ex + ey * ey + ez * ez) / (gamma * k.c)
+    if omega_e > omega:
+        omega = omega_e
+    for i in range(kinds.shape[0]):
+        p = params[i]
+        if kinds[i] == PLANE_WAVE:
+            w = p[1] * (1.0 - (p[2] * bx + p[3] * by + p[4] * bz))
+        elif kinds[i] == UNDULATOR:
+            w = p[1] * k.c * abs(bz)
+        else:
+            continue
+        if w > omega:
+            omega = w
+    dt = dt_max
+    if omega > 0.0:
+        dt = 2.0 * math.pi / (omega * steps_per_period)
+    if dt > dt_max:
+        dt = dt_max
+    if dt < dt_min:
+        dt = dt_min
+    return dt
+
+
+@njit(**KERNEL)
+def run_chunk(kinds, params, species, plan, state, n_steps,
+              out_t, out_x, out_u, out_gamma, out_power, out_radiated, out_work, out_chi, out_dt):
+    """Advance ``state`` by up to ``n_steps`` steps, writing saved states from index 0.
+
+    Returns (number of states saved, status). Units: SI, u dimensionless.
     """
     c = k.c
+    inv_c = 1.0 / k.c
     qm = species[SP_QM]
     tau0 = species[SP_TAU0]
     pscale = species[SP_POWER]
     cscale = species[SP_CHI]
     charge = species[SP_CHARGE]
-    half_qm_dt_c = 0.5 * qm * dt / c
-    half_qm_dt = 0.5 * qm * dt
-    inv_dt = 1.0 / dt
+    last_step = int(plan[PL_LAST])
+    save_every = int(plan[PL_SAVE])
+    pusher = int(plan[PL_PUSHER])
+    damping = int(plan[PL_DAMPING])
+    adaptive = plan[PL_ADAPTIVE] != 0.0
+    spp = plan[PL_SPP]
+    dt_min = plan[PL_DTMIN]
+    dt_max = plan[PL_DTMAX]
+    t_end = plan[PL_TEND]
 
     x, y, z = state[0], state[1], state[2]
     ux, uy, uz = state[3], state[4], state[5]
-    t = state[6]
-    radiated = state[7]
-    work = state[8]
-    p_prev = state[9]
-    w_prev = state[10]
+    t = state[ST_T]
+    radiated = state[ST_RAD]
+    work = state[ST_WORK]
+    p_prev = state[ST_PPREV]
+    w_prev = state[ST_WPREV]
     epx, epy, epz = state[11], state[12], state[13]
     bpx, bpy, bpz = state[14], state[15], state[16]
-    step = int(state[17])
+    step = int(state[ST_STEP])
+    dt_prev = state[ST_DTPREV]
+    dt = plan[PL_DT]
     status = RUNNING
-    g_old = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)  # then carried from the position update
+    saved = 0
     countdown = (save_every - step % save_every) % save_every + 1
+    g_old = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)  # then carried from the position update
 
     for _ in range(n_steps):
         ex, ey, ez, bx, by, bz = field_at(kinds, params, x, y, z, t)
-        lx, ly, lz = push(pusher, ux, uy, uz,
-                          half_qm_dt_c * ex, half_qm_dt_c * ey, half_qm_dt_c * ez,
-                          half_qm_dt * bx, half_qm_dt * by, half_qm_dt * bz)
+        finished = step == last_step
+        if adaptive:
+            dt = local_step(kinds, params, qm, g_old, ux / g_old, uy / g_old, uz / g_old,
+                            ex, ey, ez, bx, by, bz, spp, dt_min, dt_max)
+            if t + dt >= t_end:
+                dt = t_end - t
+            finished = finished or dt <= 1e-12 * t_end
+        dt_push = 0.5 * (dt_prev + dt) if adaptive else dt
+        hq = 0.5 * qm * dt_push
+        hqc = hq * inv_c
+        lx, ly, lz = push(pusher, ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
         g_l = math.sqrt(1.0 + lx * lx + ly * ly + lz * lz)
         gs = 0.5 * (g_old + g_l)
         sx = ux + lx
@@ -84,15 +142,19 @@ def run_chunk(kinds, params, species, dt, last_step, save_every, pusher, damping
         betaz = sz * scale
         f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
         power = lienard_power(pscale, gs, f2)
+        gaunt = 1.0
+        if damping == LANDAU_LIFSHITZ_QUANTUM:
+            gaunt = gaunt_factor(chi_parameter(cscale, gs, f2))
+            power *= gaunt
         work_rate = charge * c * (ex * betax + ey * betay + ez * betaz)
         if step > 0:
-            radiated += 0.5 * dt * (power + p_prev)
-            work += 0.5 * dt * (work_rate + w_prev)
+            radiated += 0.5 * dt_prev * (power + p_prev)
+            work += 0.5 * dt_prev * (work_rate + w_prev)
         p_prev = power
         w_prev = work_rate
 
         countdown -= 1
-        if countdown == 0 or step == last_step:
+        if countdown == 0 or finished:
             countdown = save_every
             out_t[saved] = t
             out_x[saved, 0] = x
@@ -108,17 +170,18 @@ def run_chunk(kinds, params, species, dt, last_step, save_every, pusher, damping
             out_chi[saved] = chi_parameter(cscale, gs, f2)
             out_dt[saved] = dt
             saved += 1
-        if step == last_step:
+        if finished:
             status = FINISHED
             break
 
         if damping != NONE:
-            dux, duy, duz = ll_kick(dt, qm, tau0, gs, betax, betay, betaz, ex, ey, ez, bx, by, bz,
+            inv_dt = 1.0 / dt_prev
+            dux, duy, duz = ll_kick(dt_push, qm, tau0, gs, betax, betay, betaz, ex, ey, ez, bx, by, bz,
                                     (ex - epx) * inv_dt, (ey - epy) * inv_dt, (ez - epz) * inv_dt,
                                     (bx - bpx) * inv_dt, (by - bpy) * inv_dt, (bz - bpz) * inv_dt, f2)
-            lx += dux
-            ly += duy
-            lz += duz
+            lx += gaunt * dux
+            ly += gaunt * duy
+            lz += gaunt * duz
         g_new = math.sqrt(1.0 + lx * lx + ly * ly + lz * lz)
         step_len = c * dt / g_new
         nx = x + lx * step_len
@@ -134,16 +197,18 @@ def run_chunk(kinds, params, species, dt, last_step, save_every, pusher, damping
         epx, epy, epz = ex, ey, ez
         bpx, bpy, bpz = bx, by, bz
         t += dt
+        dt_prev = dt
         step += 1
 
     state[0], state[1], state[2] = x, y, z
     state[3], state[4], state[5] = ux, uy, uz
-    state[6] = t
-    state[7] = radiated
-    state[8] = work
-    state[9] = p_prev
-    state[10] = w_prev
+    state[ST_T] = t
+    state[ST_RAD] = radiated
+    state[ST_WORK] = work
+    state[ST_PPREV] = p_prev
+    state[ST_WPREV] = w_prev
     state[11], state[12], state[13] = epx, epy, epz
     state[14], state[15], state[16] = bpx, bpy, bpz
-    state[17] = step
+    state[ST_STEP] = step
+    state[ST_DTPREV] = dt_prev
     return saved, status

@@ -7,13 +7,18 @@ from . import constants as k
 from .config import BYTES_PER_SAVED_STATE, DEFAULT_STEPS_PER_PERIOD
 from .errors import ScenarioError
 
+#: default adaptive range: dt_min = dt0 / 1000, dt_max = 1000 dt0
+ADAPTIVE_RANGE_DEFAULT = 1000.0
+
 
 @dataclass(frozen=True)
 class RunPlan:
     """dt in s, counts of steps and saved states, memory of the saved arrays in bytes.
 
     ``period`` (s) is the fastest initial time scale and ``period_source`` names it;
-    ``steps_per_period`` is period/dt (None without a time scale).
+    ``steps_per_period`` is period/dt (None without a time scale). For adaptive
+    runs ``dt`` is the initial step, ``steps`` an estimate at that step, and the
+    step stays within [dt_min, dt_max] (s).
     """
 
     dt: float
@@ -24,6 +29,9 @@ class RunPlan:
     period: float | None
     period_source: str
     steps_per_period: float | None
+    adaptive: bool = False
+    dt_min: float = 0.0
+    dt_max: float = 0.0
 
 
 def human_bytes(n):
@@ -87,5 +95,12 @@ def make_plan(scenario):
             f"max_steps = {run.max_steps:,}; it would keep {saved:,} states ({human_bytes(memory)}). "
             "Raise run.max_steps, shorten run.duration or give a coarser resolution.",
         )
-    return RunPlan(dt, steps, run.save_every, saved, memory, period, source,
-                   period / dt if period else None)
+    if not run.adaptive:
+        return RunPlan(dt, steps, run.save_every, saved, memory, period, source, period / dt if period else None)
+    if period is None:
+        raise ScenarioError("run.adaptive", "needs a magnetic field or laser at the start to set the first step.")
+    # defaults (common practice, no source): three decades either side of the first step
+    dt_min = run.dt_min if run.dt_min is not None else dt_wanted * ADAPTIVE_RANGE_DEFAULT**-1
+    dt_max = run.dt_max if run.dt_max is not None else min(dt_wanted * ADAPTIVE_RANGE_DEFAULT, run.duration)
+    dt0 = min(max(dt_wanted, dt_min), dt_max)
+    return RunPlan(dt0, steps, run.save_every, saved, memory, period, source, period / dt0, True, dt_min, dt_max)

@@ -34,7 +34,8 @@ MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed", "momentum", "u")
 SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
 SPECIES_NAMES = tuple(sp.NAMED) + ("ion", "custom")
 
-RUN_KEYS = ("duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps")
+RUN_KEYS = ("duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps",
+            "adaptive", "dt_min", "dt_max")
 PARTICLE_KEYS = ("species", "charge_state", "mass_number", "mass", "charge", "position", "direction") + MOMENTUM_KEYS
 TOP_KEYS = ("title", "description", "run", "particle", "field")
 
@@ -50,6 +51,9 @@ class RunSpec:
     radiation_reaction: str = "landau-lifshitz"
     save_every: int = 1
     max_steps: int = DEFAULT_MAX_STEPS
+    adaptive: bool = False
+    dt_min: float | None = None
+    dt_max: float | None = None
 
 
 @dataclass(frozen=True)
@@ -280,13 +284,19 @@ def _positive(value, dimension, key):
     return number
 
 
+def _boolean(value, key):
+    if not isinstance(value, bool):
+        raise ScenarioError(key, f"must be true or false, not {value!r}.")
+    return value
+
+
 def _parse_run(raw):
     _reject_unknown(raw, RUN_KEYS, "run")
     if "duration" not in raw:
         raise ScenarioError("run.duration", "is required (e.g. duration = \"2 ns\").")
     if "dt" in raw and "steps_per_period" in raw:
         raise ScenarioError("run.dt", "give either dt or steps_per_period, not both.")
-    return RunSpec(
+    run = RunSpec(
         duration=_positive(raw["duration"], "time", "run.duration"),
         dt=_positive(raw["dt"], "time", "run.dt") if "dt" in raw else None,
         steps_per_period=(_positive(raw["steps_per_period"], "dimensionless", "run.steps_per_period")
@@ -296,7 +306,17 @@ def _parse_run(raw):
                                    "run.radiation_reaction"),
         save_every=_integer(raw.get("save_every", 1), "run.save_every"),
         max_steps=_integer(raw.get("max_steps", DEFAULT_MAX_STEPS), "run.max_steps"),
+        adaptive=_boolean(raw.get("adaptive", False), "run.adaptive"),
+        dt_min=_positive(raw["dt_min"], "time", "run.dt_min") if "dt_min" in raw else None,
+        dt_max=_positive(raw["dt_max"], "time", "run.dt_max") if "dt_max" in raw else None,
     )
+    if not run.adaptive:
+        for key in ("dt_min", "dt_max"):
+            if getattr(run, key) is not None:
+                raise ScenarioError(f"run.{key}", "only applies with adaptive = true.")
+    if run.dt_min is not None and run.dt_max is not None and run.dt_min > run.dt_max:
+        raise ScenarioError("run.dt_min", f"must not exceed dt_max ({run.dt_max:g} s), not {raw['dt_min']!r}.")
+    return run
 
 
 def _parse_species(raw):

@@ -27,9 +27,10 @@ from ..config import KERNEL
 
 NONE = 0
 LANDAU_LIFSHITZ = 1
+LANDAU_LIFSHITZ_QUANTUM = 2  #: LL force and power scaled by the Gaunt factor g(chi), see quantum.py
 
 #: scenario name -> kernel code
-MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ}
+MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ, "landau-lifshitz-quantum": LANDAU_LIFSHITZ_QUANTUM}
 
 
 @njit(**KERNEL)

@@ -8,10 +8,15 @@ Public face::
     pair = compare(scenario)          # .damped and .undamped
 """
 
-from .engine import Comparison, compare, track
-from .errors import ScenarioError
-from .result import Result, load_result
-from .scenario import Scenario, load_scenario
+from .cache_guard import ensure_consistent_cache
+
+ensure_consistent_cache()
+
+# imported after the cache check, before any kernel is loaded
+from .engine import Comparison, compare, track  # noqa: E402
+from .errors import ScenarioError  # noqa: E402
+from .result import Result, load_result  # noqa: E402
+from .scenario import Scenario, load_scenario  # noqa: E402
 
 __version__ = "0.1.0"
 

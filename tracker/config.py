@@ -11,6 +11,11 @@ NaN/Inf detection of lost particles must keep working.
 #: close over per-scenario Python objects (field tables are plain arrays).
 KERNEL = dict(cache=True, nogil=True, error_model="numpy")
 
+#: options for small functions called from the integration loop: numba-IR inlining
+#: removes the call and, above all, the atomic reference-count traffic of passing
+#: arrays to a non-inlined call (measured: field lookup 44 -> a few ns per step).
+LEAF = dict(KERNEL, inline="always")
+
 #: parameter slots per field component in the field table.
 FIELD_PARAMS = 24
 

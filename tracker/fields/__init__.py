@@ -3,7 +3,7 @@
 How to add a field model
 ------------------------
 1. Write a module here with a kind code ``NAME = <next integer>`` and one
-   ``@njit(**KERNEL)`` evaluator ``f(p, x, y, z, t) -> (Ex, Ey, Ez, Bx, By, Bz)``
+   ``@njit(**LEAF)`` evaluator ``f(p, x, y, z, t) -> (Ex, Ey, Ez, Bx, By, Bz)``
    in SI, reading its parameters from the float64 row ``p`` (at most
    ``config.FIELD_PARAMS`` slots). Cite the formula's source in its docstring.
 2. Describe its inputs with a ``FieldModel`` (``Param`` entries carry the

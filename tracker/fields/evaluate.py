@@ -3,32 +3,32 @@
 import numpy as np
 from numba import njit
 
-from ..config import KERNEL
+from ..config import KERNEL, LEAF
 from .laser import PLANE_WAVE, plane_wave_field
 from .static import DIPOLE, MIRROR, UNIFORM, dipole_field, mirror_field, uniform_field
 from .tokamak import TOKAMAK, tokamak_field
 from .undulator import UNDULATOR, undulator_field
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def field_at(kinds, params, x, y, z, t):
     """E (V/m) and B (T) at (x, y, z) in m and t in s, summed over the table rows."""
     ex = ey = ez = bx = by = bz = 0.0
     for i in range(kinds.shape[0]):
         kind = kinds[i]
-        p = params[i]
+        p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
         if kind == UNIFORM:
-            f = uniform_field(p, x, y, z, t)
+            f = uniform_field(p, i, x, y, z, t)
         elif kind == PLANE_WAVE:
-            f = plane_wave_field(p, x, y, z, t)
+            f = plane_wave_field(p, i, x, y, z, t)
         elif kind == UNDULATOR:
-            f = undulator_field(p, x, y, z, t)
+            f = undulator_field(p, i, x, y, z, t)
         elif kind == MIRROR:
-            f = mirror_field(p, x, y, z, t)
+            f = mirror_field(p, i, x, y, z, t)
         elif kind == DIPOLE:
-            f = dipole_field(p, x, y, z, t)
+            f = dipole_field(p, i, x, y, z, t)
         elif kind == TOKAMAK:
-            f = tokamak_field(p, x, y, z, t)
+            f = tokamak_field(p, i, x, y, z, t)
         else:
             continue
         ex += f[0]

@@ -5,7 +5,7 @@ import math
 from numba import njit
 
 from .. import constants as k
-from ..config import KERNEL
+from ..config import LEAF
 from ..errors import ScenarioError
 from .base import ABSENT, FieldModel, Param, cross, dot, unit_vector
 
@@ -18,8 +18,8 @@ ENVELOPE_GAUSSIAN = 1.0
 SIN2_FWHM_FRACTION = 2.0 / math.pi * math.acos(2.0 ** -0.25)
 
 
-@njit(**KERNEL)
-def plane_wave_field(p, x, y, z, t):
+@njit(**LEAF)
+def plane_wave_field(p, i, x, y, z, t):
     """Plane-wave pulse from the normalised vector potential a(s), s = t - n.(r - r_peak)/c.
 
     a(s) = a0 g(s) [e1 cos(w s + phase) + h e2 sin(w s + phase)],  h = 0 linear, 1 circular
@@ -27,10 +27,10 @@ def plane_wave_field(p, x, y, z, t):
     Defining the envelope on the potential keeps the pulse free of a DC part.
     p = [A (= a0 m_e c/e, V s/m), w, nx, ny, nz, e1(3), h*e2(3), envelope, width, n.r_peak, phase].
     """
-    w = p[1]
-    s = t - (p[2] * x + p[3] * y + p[4] * z - p[14]) / k.c
-    width = p[13]
-    if p[12] == 0.0:
+    w = p[i, 1]
+    s = t - (p[i, 2] * x + p[i, 3] * y + p[i, 4] * z - p[i, 13]) / k.c
+    width = p[i, 12]
+    if p[i, 11] == 0.0:
         # cos^2 amplitude over a full length `width`
         if abs(s) >= 0.5 * width:
             return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
@@ -42,19 +42,19 @@ def plane_wave_field(p, x, y, z, t):
         c4 = 4.0 * math.log(2.0) / (width * width)
         g = math.exp(-0.5 * c4 * s * s)
         dg = -c4 * s * g
-    ph = w * s + p[15]
+    ph = w * s + p[i, 14]
     cs = math.cos(ph)
     sn = math.sin(ph)
     # E = -A [g' (e1 cos + e2 sin) + g w (-e1 sin + e2 cos)]
-    c1 = -p[0] * (dg * cs - g * w * sn)
-    c2 = -p[0] * (dg * sn + g * w * cs)
-    ex = c1 * p[5] + c2 * p[8]
-    ey = c1 * p[6] + c2 * p[9]
-    ez = c1 * p[7] + c2 * p[10]
+    c1 = -p[i, 0] * (dg * cs - g * w * sn)
+    c2 = -p[i, 0] * (dg * sn + g * w * cs)
+    ex = c1 * p[i, 5] + c2 * p[i, 8]
+    ey = c1 * p[i, 6] + c2 * p[i, 9]
+    ez = c1 * p[i, 7] + c2 * p[i, 10]
     inv_c = 1.0 / k.c
-    bx = (p[3] * ez - p[4] * ey) * inv_c
-    by = (p[4] * ex - p[2] * ez) * inv_c
-    bz = (p[2] * ey - p[3] * ex) * inv_c
+    bx = (p[i, 3] * ez - p[i, 4] * ey) * inv_c
+    by = (p[i, 4] * ex - p[i, 2] * ez) * inv_c
+    bz = (p[i, 2] * ey - p[i, 3] * ex) * inv_c
     return ex, ey, ez, bx, by, bz
 
 

@@ -4,7 +4,7 @@ import math
 
 from numba import njit
 
-from ..config import KERNEL
+from ..config import LEAF
 from ..constants import mu_0
 from .base import ABSENT, FieldModel, Param
 
@@ -13,45 +13,45 @@ MIRROR = 2
 DIPOLE = 3
 
 
-@njit(**KERNEL)
-def uniform_field(p, x, y, z, t):
+@njit(**LEAF)
+def uniform_field(p, i, x, y, z, t):
     """Uniform E (V/m) in p[0:3] and B (T) in p[3:6]."""
-    return p[0], p[1], p[2], p[3], p[4], p[5]
+    return p[i, 0], p[i, 1], p[i, 2], p[i, 3], p[i, 4], p[i, 5]
 
 
-@njit(**KERNEL)
-def mirror_field(p, x, y, z, t):
+@njit(**LEAF)
+def mirror_field(p, i, x, y, z, t):
     """Paraxial mirror, axis z: Bz = B0 (1 + z^2/L^2), Br = -B0 r z/L^2 (div B = 0).
 
     Chen, Introduction to Plasma Physics, sec. 2.3 (magnetic mirror); the radial
     component follows from div B = 0 to first order in r/L.
     p = [B0, L, cx, cy, cz].
     """
-    b0 = p[0]
-    inv_l2 = 1.0 / (p[1] * p[1])
-    dx = x - p[2]
-    dy = y - p[3]
-    dz = z - p[4]
+    b0 = p[i, 0]
+    inv_l2 = 1.0 / (p[i, 1] * p[i, 1])
+    dx = x - p[i, 2]
+    dy = y - p[i, 3]
+    dz = z - p[i, 4]
     return 0.0, 0.0, 0.0, -b0 * dx * dz * inv_l2, -b0 * dy * dz * inv_l2, b0 * (1.0 + dz * dz * inv_l2)
 
 
-@njit(**KERNEL)
-def dipole_field(p, x, y, z, t):
+@njit(**LEAF)
+def dipole_field(p, i, x, y, z, t):
     """Point magnetic dipole B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (Jackson sec. 5.6).
 
     p = [mu0/(4 pi) Mx, My, Mz, cx, cy, cz]; infinite at the centre (caught as non-finite).
     """
-    rx = x - p[3]
-    ry = y - p[4]
-    rz = z - p[5]
+    rx = x - p[i, 3]
+    ry = y - p[i, 4]
+    rz = z - p[i, 5]
     r2 = rx * rx + ry * ry + rz * rz
     inv_r = 1.0 / math.sqrt(r2)
     inv_r3 = inv_r * inv_r * inv_r
-    m_dot_r = (p[0] * rx + p[1] * ry + p[2] * rz) * inv_r * inv_r
+    m_dot_r = (p[i, 0] * rx + p[i, 1] * ry + p[i, 2] * rz) * inv_r * inv_r
     return (0.0, 0.0, 0.0,
-            (3.0 * m_dot_r * rx - p[0]) * inv_r3,
-            (3.0 * m_dot_r * ry - p[1]) * inv_r3,
-            (3.0 * m_dot_r * rz - p[2]) * inv_r3)
+            (3.0 * m_dot_r * rx - p[i, 0]) * inv_r3,
+            (3.0 * m_dot_r * ry - p[i, 1]) * inv_r3,
+            (3.0 * m_dot_r * rz - p[i, 2]) * inv_r3)
 
 
 def _pack_uniform(v):

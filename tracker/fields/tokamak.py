@@ -4,14 +4,14 @@ import math
 
 from numba import njit
 
-from ..config import KERNEL
+from ..config import LEAF
 from .base import FieldModel, Param
 
 TOKAMAK = 6
 
 
-@njit(**KERNEL)
-def tokamak_field(p, x, y, z, t):
+@njit(**LEAF)
+def tokamak_field(p, i, x, y, z, t):
     """Axisymmetric tokamak field about the z axis (Wesson, Tokamaks, ch. 3, large aspect ratio).
 
     B_phi = B0 R0/R; poloidal field from the flux psi = B0 r^2/(2 q), r^2 = (R - R0)^2 + z^2:
@@ -23,11 +23,11 @@ def tokamak_field(p, x, y, z, t):
     inv_r = 1.0 / rmaj
     cphi = x * inv_r
     sphi = y * inv_r
-    bphi = p[1] * p[0] * inv_r
-    pol = p[1] / (p[2] * rmaj)
+    bphi = p[i, 1] * p[i, 0] * inv_r
+    pol = p[i, 1] / (p[i, 2] * rmaj)
     b_rmaj = -pol * z
-    bz = pol * (rmaj - p[0])
-    ephi = p[3] / (2.0 * math.pi * rmaj)
+    bz = pol * (rmaj - p[i, 0])
+    ephi = p[i, 3] / (2.0 * math.pi * rmaj)
     return (-ephi * sphi, ephi * cphi, 0.0,
             b_rmaj * cphi - bphi * sphi, b_rmaj * sphi + bphi * cphi, bz)
 

@@ -4,15 +4,15 @@ import math
 
 from numba import njit
 
-from ..config import KERNEL
+from ..config import LEAF
 from ..errors import ScenarioError
 from .base import FieldModel, Param
 
 UNDULATOR = 4
 
 
-@njit(**KERNEL)
-def undulator_field(p, x, y, z, t):
+@njit(**LEAF)
+def undulator_field(p, i, x, y, z, t):
     """Planar undulator, axis z, field along y (Wiedemann, Particle Accelerator Physics, ch. on insertion devices).
 
     Inside start <= z <= start + length (s = z - start, k = 2 pi/period):
@@ -25,13 +25,13 @@ def undulator_field(p, x, y, z, t):
     so a particle entering on axis leaves on axis and parallel to it.
     p = [B0, k, start, length].
     """
-    s = z - p[2]
-    if s < 0.0 or s > p[3]:
+    s = z - p[i, 2]
+    if s < 0.0 or s > p[i, 3]:
         return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
-    k = p[1]
+    k = p[i, 1]
     ky = k * y
     ks = k * s
-    return 0.0, 0.0, 0.0, 0.0, p[0] * math.cosh(ky) * math.cos(ks), -p[0] * math.sinh(ky) * math.sin(ks)
+    return 0.0, 0.0, 0.0, 0.0, p[i, 0] * math.cosh(ky) * math.cos(ks), -p[i, 0] * math.sinh(ky) * math.sin(ks)
 
 
 def _check(v, key):

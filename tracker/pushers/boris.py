@@ -12,12 +12,12 @@ import math
 
 from numba import njit
 
-from ..config import KERNEL
+from ..config import LEAF
 
 CODE = 0
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def boris_push(ux, uy, uz, ex, ey, ez, tx, ty, tz):
     """Advance u = gamma v/c by one step.
 

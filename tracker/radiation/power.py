@@ -15,10 +15,10 @@ import math
 from numba import njit
 
 from .. import constants as k
-from ..config import KERNEL
+from ..config import LEAF
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz):
     """|E + c beta x B|^2 - (E.beta)^2 in (V/m)^2, beta = v/c; clipped at 0 against round-off."""
     c = k.c
@@ -30,13 +30,13 @@ def transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz):
     return f2 if f2 > 0.0 else 0.0
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def lienard_power(power_scale, gamma, f2):
     """Lienard power in W: ``power_scale`` = q^2 tau0/m (W m^2/V^2), ``f2`` from transverse_force_squared."""
     return power_scale * gamma * gamma * f2
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def chi_parameter(chi_scale, gamma, f2):
     """Quantum parameter chi = |q| hbar gamma sqrt(f2)/(m^2 c^3); ``chi_scale`` = |q| hbar/(m^2 c^3)."""
     return chi_scale * gamma * math.sqrt(f2)

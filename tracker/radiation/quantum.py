@@ -17,10 +17,10 @@ import math
 
 from numba import njit
 
-from ..config import KERNEL
+from ..config import LEAF
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def gaunt_factor(chi):
     """Ratio of quantum to classical emitted power for quantum parameter ``chi`` (dimensionless)."""
     return (1.0 + 4.8 * (1.0 + chi) * math.log1p(1.7 * chi) + 2.44 * chi * chi) ** (-2.0 / 3.0)

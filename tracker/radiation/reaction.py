@@ -23,7 +23,7 @@ plane-wave pulse unchanged).
 from numba import njit
 
 from .. import constants as k
-from ..config import KERNEL
+from ..config import LEAF
 
 NONE = 0
 LANDAU_LIFSHITZ = 1
@@ -33,7 +33,7 @@ LANDAU_LIFSHITZ_QUANTUM = 2  #: LL force and power scaled by the Gaunt factor g(
 MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ, "landau-lifshitz-quantum": LANDAU_LIFSHITZ_QUANTUM}
 
 
-@njit(**KERNEL)
+@njit(**LEAF)
 def ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz, f2):
     """Change of u over dt from the Landau-Lifshitz force (dimensionless).
 

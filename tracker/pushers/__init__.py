@@ -3,7 +3,7 @@
 How to add a pusher
 -------------------
 1. Write one module here with ``CODE = <next integer>`` and one
-   ``@njit(**KERNEL)`` function ``push(ux, uy, uz, ex, ey, ez, tx, ty, tz)``
+   ``@njit(**LEAF)`` function ``push(ux, uy, uz, ex, ey, ez, tx, ty, tz)``
    returning the new ``u = gamma v/c`` after a full step, where
    ``e = q dt E/(2 m c)`` and ``t = q dt B/(2 m)`` (dimensionless). Cite the
    paper in the module docstring, with its equation numbers.
@@ -13,10 +13,21 @@ How to add a pusher
    convergence against a reference solution (see tests/test_pushers.py).
 """
 
-from . import boris
+from . import boris, higuera_cary, vay
 
 #: scenario name -> kernel code
-PUSHERS = {"boris": boris.CODE}
+PUSHERS = {"boris": boris.CODE, "vay": vay.CODE, "higuera-cary": higuera_cary.CODE}
 
 #: scenario name -> reference shown in the lab and the docs
-REFERENCES = {"boris": "Boris (1970); Birdsall & Langdon (1991) ch. 15"}
+REFERENCES = {
+    "boris": "Boris (1970); Birdsall & Langdon (1991) ch. 15",
+    "vay": "J.-L. Vay, Phys. Plasmas 15, 056701 (2008)",
+    "higuera-cary": "A. V. Higuera and J. R. Cary, Phys. Plasmas 24, 052104 (2017)",
+}
+
+#: scenario name -> one line on when to choose it (lab tooltips, `radorbit check`)
+NOTES = {
+    "boris": "fastest; volume-preserving; deflects a fast particle in force-free crossed fields",
+    "vay": "exact in force-free crossed fields (E + v x B = 0); not volume-preserving",
+    "higuera-cary": "exact in force-free crossed fields and volume-preserving; ultra-relativistic orbits in lasers",
+}

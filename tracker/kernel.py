@@ -152,6 +152,10 @@ def run_chunk(kinds, params, species, plan, state, n_steps,
         if damping == LANDAU_LIFSHITZ_QUANTUM:
             gaunt = gaunt_factor(chi_parameter(cscale, gs, f2))
             power *= gaunt
+        if not math.isfinite(power + g_p):
+            # NaN or Inf from the fields or the push: stop before saving, keep the last good state
+            status = NONFINITE
+            break
         work_rate = charge * c * (ex * betax + ey * betay + ez * betaz)
         if step > 0:
             radiated += 0.5 * dt_prev * (power + p_prev)

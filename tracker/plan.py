@@ -3,6 +3,8 @@
 import math
 from dataclasses import dataclass
 
+import numpy as np
+
 from . import constants as k
 from .config import BYTES_PER_SAVED_STATE, DEFAULT_STEPS_PER_PERIOD
 from .errors import ScenarioError
@@ -49,7 +51,10 @@ def time_scales(scenario):
     gamma = math.sqrt(1.0 + float(u @ u))
     beta = u / gamma
     scales = []
-    _, b = scenario.fields_at([p.position], 0.0)
+    e, b = scenario.fields_at([p.position], 0.0)
+    if not (np.all(np.isfinite(e)) and np.all(np.isfinite(b))):
+        raise ScenarioError("particle.position", f"the fields are not finite at the start {list(p.position)!r} "
+                                                 "(on a singularity of a field model?).")
     bmag = float((b[0] @ b[0]) ** 0.5)
     if bmag > 0:
         scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * bmag), "relativistic gyration at the start"))
@@ -84,6 +89,9 @@ def make_plan(scenario):
                 "there is no magnetic field or laser at the start to set the step from; give run.dt instead.",
             )
         dt_wanted = period / (run.steps_per_period or DEFAULT_STEPS_PER_PERIOD)
+    if not (math.isfinite(dt_wanted) and dt_wanted > 0):
+        raise ScenarioError("run.steps_per_period", f"the fastest time scale at the start ({source}) is "
+                                                    f"{period!r} s: no usable step; give run.dt instead.")
     steps = max(1, math.ceil(run.duration / dt_wanted * (1.0 - 1e-12)))
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)

@@ -73,6 +73,8 @@ def unit_vector(vec, key):
     norm = math.sqrt(sum(v * v for v in vec))
     if not norm > 0:
         raise ScenarioError(key, f"must be a non-zero vector, not {list(vec)!r}.")
+    if abs(norm - 1.0) < 4e-16:
+        return tuple(float(v) for v in vec)  # already unit: keep it bit-exact (TOML round trip)
     return tuple(v / norm for v in vec)
 
 

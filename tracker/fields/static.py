@@ -71,6 +71,10 @@ def _mirror_domain(v):
     return ("paraxial", f"radius from the axis small against L = {v['L']:.4g} m")
 
 
+def _dipole_domain(v):
+    return ("far field", "well outside the magnetised body it stands for; the point-dipole field diverges at the centre")
+
+
 UNIFORM_MODEL = FieldModel(
     name="uniform", code=UNIFORM, label="Uniform E and B",
     params=(
@@ -101,4 +105,5 @@ DIPOLE_MODEL = FieldModel(
     ),
     pack=_pack_dipole,
     doc="Point dipole B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (e.g. a planetary field).",
+    domain=_dipole_domain,
 )

@@ -16,22 +16,29 @@ def undulator_field(p, i, x, y, z, t):
     """Planar undulator, axis z, field along y (Wiedemann, Particle Accelerator Physics, ch. on insertion devices).
 
     Inside start <= z <= start + length (s = z - start, k = 2 pi/period):
-        By = B0 cosh(k y) cos(k s),  Bz = -B0 sinh(k y) sin(k s)
-    which satisfies curl B = 0 and div B = 0 exactly. Outside the field is zero.
+        By = h B0 cosh(k y) sin(k s),  Bz = h B0 sinh(k y) cos(k s)
+    which satisfies curl B = 0 and div B = 0 in each segment. Outside the field is zero.
 
-    Ends: the field starts and stops with hard edges and the length is a whole
-    number of periods. Then both the first field integral (int By ds = 0: exit
-    angle zero) and the first moment (int int By = 0: exit offset zero) vanish,
-    so a particle entering on axis leaves on axis and parallel to it.
+    Ends: the length is a whole number N of periods and the first and last half
+    periods have half strength (h = 1/2, else h = 1). The field on axis is then
+    continuous (zero at both ends, so the leapfrog stays second order), the first
+    field integral vanishes (a particle entering on axis leaves parallel to it),
+    and inside the transverse velocity oscillates about zero (no mean angle); the
+    exit is displaced by K period/(2 gamma).
     p = [B0, k, start, length].
     """
     s = z - p[i, 2]
-    if s < 0.0 or s > p[i, 3]:
+    length = p[i, 3]
+    if s < 0.0 or s > length:
         return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
     k = p[i, 1]
+    half_period = math.pi / k
+    b0 = p[i, 0]
+    if s < half_period or s > length - half_period:
+        b0 *= 0.5
     ky = k * y
     ks = k * s
-    return 0.0, 0.0, 0.0, 0.0, p[i, 0] * math.cosh(ky) * math.cos(ks), -p[i, 0] * math.sinh(ky) * math.sin(ks)
+    return 0.0, 0.0, 0.0, 0.0, b0 * math.cosh(ky) * math.sin(ks), b0 * math.sinh(ky) * math.cos(ks)
 
 
 def _check(v, key):
@@ -62,6 +69,7 @@ MODEL = FieldModel(
     ),
     pack=_pack,
     check=_check,
-    doc="By = B0 cosh(ky) cos(ks) along z; deflection parameter K = e B0 period/(2 pi m_e c).",
+    doc=("By = B0 cosh(ky) sin(ks) along z with half-strength end half-periods; "
+         "deflection parameter K = e B0 period/(2 pi m_e c)."),
     domain=_domain,
 )

@@ -1,0 +1,24 @@
+"""Radiation diagnostics of tracked orbits: power, angular distribution and spectra.
+
+Public API (all SI; see each function's docstring for units and shapes)::
+
+    from tracker.radiation import angular_distribution, spectrum, synchrotron_spectrum
+    dP = angular_distribution(result, index, theta, phi)        # W/sr, (n_theta, n_phi)
+    S = spectrum(result, directions, omega, method="nufft")      # J s/sr, (n_dir, n_omega)
+    dW = synchrotron_spectrum(result, omega)                     # J s, (n_omega,)
+    dN = photon_spectrum(result, omega)                          # s (photons per rad/s)
+"""
+
+from .angular import angular_distribution, direction_grid, orbit_kinematics, radiation_pattern
+from .spectrum import (default_direction, default_omega, photon_energy_ev, polarization_basis,
+                       radiation_amplitudes, resolved_band, spectrum)
+from .synchrotron import (critical_frequency, default_synchrotron_omega, local_synchrotron, photon_spectrum,
+                          spectral_shape, synchrotron_spectrum, universal_function)
+
+__all__ = [
+    "angular_distribution", "direction_grid", "orbit_kinematics", "radiation_pattern",
+    "spectrum", "radiation_amplitudes", "resolved_band", "polarization_basis", "default_direction",
+    "default_omega", "photon_energy_ev",
+    "synchrotron_spectrum", "photon_spectrum", "critical_frequency", "local_synchrotron", "default_synchrotron_omega",
+    "universal_function", "spectral_shape",
+]

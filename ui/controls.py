@@ -1,0 +1,99 @@
+"""Run and cancel buttons, progress bar, validity and status lines of one session.
+
+The engine runs on a worker thread (``LabState.start_run``). A periodic callback on
+the session's own event loop copies progress and, at the end, the results into the
+state, so every document change happens on the loop and other sessions stay live.
+"""
+
+import html
+
+import panel as pn
+from panel.viewable import Viewer
+from .theme import html_pane
+
+#: how often the page asks the worker for progress, ms
+POLL_MS = 150
+
+STATUS_COLORS = {"idle": "#52606d", "running": "#1d5f8a", "completed": "#1e6b3a", "cancelled": "#8a4b00",
+                 "stopped": "#8a4b00", "failed": "#b3261e"}
+
+
+def validity_html(state):
+    """One line: the scenario is valid (with its step count) or the engine's message."""
+    if state.scenario is None:
+        return (f'<div class="ro-invalid" id="scenario-error" style="color:#b3261e;font-size:13px">'
+                f"✗ {html.escape(state.error)}</div>")
+    steps = state.plan.steps if state.plan is not None else 0
+    return (f'<div class="ro-valid" id="scenario-ok" style="color:#1e6b3a;font-size:13px">'
+            f"✓ scenario valid · {steps:,} steps per run · damped and undamped</div>")
+
+
+def status_html(state):
+    color = STATUS_COLORS.get(state.status, "#52606d")
+    text = state.status_text or "not run yet"
+    return (f'<div id="run-status" data-status="{state.status}" data-runs="{state.run_count}" '
+            f'style="color:{color};font-size:13px">{html.escape(text)}</div>')
+
+
+class RunControls(Viewer):
+    """Run (damped and undamped) / Cancel, with a progress bar and status line."""
+
+    def __init__(self, state, on_finished=None, **params):
+        super().__init__(**params)
+        self.state = state
+        self.on_finished = on_finished
+        self._poller = None
+        self.run = pn.widgets.Button(label="▶  Run", color="primary", width=150, height=38, margin=(4, 6),
+                                     css_classes=["run-button"])
+        self.cancel = pn.widgets.Button(label="■  Cancel", width=110, height=38, margin=(4, 6), disabled=True,
+                                        css_classes=["cancel-button"])
+        self.progress = pn.indicators.Progress(value=0, max=1000, bar_color="primary", active=False,
+                                               sizing_mode="stretch_width", height=14, margin=(6, 8))
+        self.validity = html_pane(validity_html(state), sizing_mode="stretch_width", margin=(0, 8))
+        self.status = html_pane(status_html(state), sizing_mode="stretch_width", margin=(0, 8))
+        self.run.on_click(self._run_clicked)
+        self.cancel.on_click(self._cancel_clicked)
+        state.param.watch(self._validity_changed, ["scenario", "error"])
+        state.param.watch(self._status_changed, ["status", "status_text", "progress"])
+        self._layout = pn.Column(pn.Row(self.run, self.cancel, margin=0), self.progress, self.status,
+                                 self.validity, sizing_mode="stretch_width", margin=0)
+        self._validity_changed()
+
+    def __panel__(self):
+        return self._layout
+
+    def _validity_changed(self, *_):
+        self.validity.object = validity_html(self.state)
+        self.run.disabled = self.state.scenario is None or self.state.running
+
+    def _status_changed(self, *_):
+        state = self.state
+        running = state.status == "running"
+        self.status.object = status_html(state)
+        if running and not (state.controller and state.controller.reported):
+            self.progress.param.update(value=-1, active=True)  # indeterminate while kernels load
+        else:
+            self.progress.param.update(value=int(round(1000 * state.progress)), active=running)
+        self.cancel.disabled = not running
+        self.run.disabled = running or state.scenario is None
+
+    def _run_clicked(self, _event):
+        if not self.state.start_run():
+            return
+        self.run.disabled = True
+        self.cancel.disabled = False
+        self._status_changed()
+        self._poller = pn.state.add_periodic_callback(self._poll, period=POLL_MS)
+
+    def _cancel_clicked(self, _event):
+        self.state.cancel_run()
+
+    def _poll(self):
+        if not self.state.poll():
+            return
+        if self._poller is not None:
+            self._poller.stop()
+            self._poller = None
+        self._status_changed()
+        if self.on_finished is not None:
+            self.on_finished()

@@ -1,0 +1,109 @@
+"""Run editor: duration, time step, pusher, radiation reaction, output cadence; the live plan."""
+
+import html
+
+import panel as pn
+from panel.viewable import Viewer
+
+from tracker.config import DEFAULT_STEPS_PER_PERIOD
+from tracker.fields.base import REQUIRED
+from tracker.plan import human_bytes
+
+from .. import schema
+from ..format import TIME_UNITS, number_text, quantity_text
+from .inputs import ErrorBoard, EntryRow
+from ..theme import html_pane
+
+#: memory estimate above which the plan line turns amber (common practice, no source)
+LARGE_MEMORY_BYTES = 1 << 30
+
+
+def run_row(state, name, default):
+    e = schema.RUN_ENTRIES[name]
+    return EntryRow(state, ("run", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
+                    default=default)
+
+
+def plan_html(plan, error=""):
+    """Plan readout: dt, steps, saved states, memory, fastest time scale, resolution."""
+    if plan is None:
+        return ('<div class="ro-plan" id="plan-readout"><i>No plan: the scenario is not valid yet'
+                f'{" (see the message above)" if error else ""}.</i></div>')
+    memory_style = ' style="color:#9a5b00;font-weight:600"' if plan.memory_bytes >= LARGE_MEMORY_BYTES else ""
+    period = (f"{quantity_text(plan.period, TIME_UNITS)} ({html.escape(plan.period_source)})"
+              if plan.period else "none found")
+    rows = [
+        ("time step dt", f'<span id="plan-dt">{quantity_text(plan.dt, TIME_UNITS, 5)}</span>'),
+        ("steps", f'<span id="plan-steps">{plan.steps:,}</span>'),
+        ("saved states", f"{plan.saved_states:,} (every {plan.save_every})"),
+        ("memory estimate", f'<span id="plan-memory"{memory_style}>{human_bytes(plan.memory_bytes)}</span> '
+                            "per run, two runs"),
+        ("fastest time scale", period),
+        ("resolution", f"{number_text(plan.steps_per_period, 4)} steps per period" if plan.steps_per_period else "–"),
+    ]
+    body = "".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in rows)
+    return f'<table class="ro-plan" id="plan-readout">{body}</table>'
+
+
+PLAN_CSS = """
+table.ro-plan { border-collapse: collapse; font-size: 13px; margin: 2px 0 0 8px; }
+table.ro-plan th { text-align: left; font-weight: 500; color: #4a5a6a; padding: 1px 12px 1px 0; }
+table.ro-plan td { font-variant-numeric: tabular-nums; padding: 1px 0; }
+"""
+
+
+class RunEditor(Viewer):
+    """[run] inputs and the plan the engine makes from them, updated on every edit."""
+
+    def __init__(self, state, **params):
+        super().__init__(**params)
+        self.state = state
+        self.board = ErrorBoard(state)
+        self.rows = []
+        self._form = pn.Column(sizing_mode="stretch_width", margin=0)
+        self._plan = html_pane(plan_html(state.plan, state.error), stylesheets=[PLAN_CSS],
+                                  sizing_mode="stretch_width", margin=(6, 0))
+        self._layout = pn.Column(self._form, self._plan, sizing_mode="stretch_width", margin=0)
+        state.param.watch(self._rebuild, "layout_version")
+        state.param.watch(self._show_plan, ["plan", "error"])
+        self._rebuild()
+
+    def __panel__(self):
+        return self._layout
+
+    def _show_plan(self, *_):
+        self._plan.object = plan_html(self.state.plan, self.state.error)
+
+    def _rebuild(self, *_):
+        state = self.state
+        self.board.reset()
+        mode = state.step_mode()
+        mode_select = pn.widgets.Select(options={v: k for k, v in schema.STEP_MODES.items()}, value=mode,
+                                        width=214, margin=(2, 4), css_classes=["in-run-step-mode"])
+        mode_select.param.watch(lambda e: state.set_step_mode(e.new), "value")
+        pusher = EntryRow(state, ("run", "pusher"), "pusher", "choice", doc="particle pusher",
+                          default=schema.run_default("pusher"), choices=schema.pusher_names())
+        reaction = EntryRow(state, ("run", "radiation_reaction"), "radiation reaction", "choice",
+                            doc="model of the damped run (the undamped run switches it off)",
+                            default=schema.run_default("radiation_reaction"), choices=schema.reaction_names())
+        step_default = DEFAULT_STEPS_PER_PERIOD if mode == "steps_per_period" else REQUIRED
+        self.rows = [
+            run_row(state, "duration", REQUIRED),
+            run_row(state, mode, step_default),
+            pusher,
+            reaction,
+            run_row(state, "save_every", schema.run_default("save_every")),
+            run_row(state, "max_steps", schema.run_default("max_steps")),
+        ]
+        for row in self.rows:
+            self.board.add(row)
+        reference = schema.pusher_reference(state.value(("run", "pusher")) or schema.run_default("pusher"))
+        self._form.objects = [
+            self.rows[0],
+            pn.Row(html_pane('<span class="ro-label">time step from</span>', width=128, margin=(8, 4, 0, 8)),
+                   mode_select, margin=0),
+            *self.rows[1:3],
+            html_pane(f'<div class="ro-doc">{html.escape(reference)}</div>', margin=(0, 8, 0, 140))
+            if reference else pn.Spacer(height=0),
+            *self.rows[3:],
+        ]

@@ -1,0 +1,367 @@
+"""One session's lab state: the scenario under edit, its validation, the run and its results.
+
+``LabState`` holds no widgets, so it is tested without a browser. Editors write raw
+values into ``draft`` (numbers in SI or strings with units, exactly as a scenario
+file holds them); after every change the draft is handed to ``Scenario.from_dict``,
+which is the only judge of validity. Views watch the parameters.
+"""
+
+import copy
+import tomllib
+
+import param
+
+from tracker import Scenario, ScenarioError
+from tracker.fields import MODELS as FIELD_MODELS
+
+from . import schema
+from .bundled import bundled_path
+from .runner import RunController
+
+#: run states shown by the page
+STATUSES = ("idle", "running", "completed", "cancelled", "stopped", "failed")
+
+
+def key_path(path):
+    """Scenario key path of an input path: ('field', 0, 'B') -> 'field[0].B'."""
+    out = ""
+    for part in path:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else part
+    return out
+
+
+def error_belongs_to(error_key, key):
+    """True when an error reported for ``error_key`` concerns the input at ``key``."""
+    if not error_key or not key:
+        return False
+    return error_key == key or error_key.startswith(key + "[") or error_key.startswith(key + ".")
+
+
+class LabState(param.Parameterized):
+    """Scenario draft, validated Scenario, run plan, run status and results of one session."""
+
+    draft = param.Dict(default={}, doc="""
+        The scenario under edit as raw values: numbers (SI) or strings with units,
+        nested as in a scenario file ({'run': {...}, 'particle': {...}, 'field': [...]}).""")
+
+    layout_version = param.Integer(default=0, doc="""
+        Bumped when the set or order of inputs changes (a field added, removed or moved,
+        species, momentum kind or step mode switched, a scenario loaded). Editors rebuild
+        their forms then; plain value edits do not rebuild, so typing keeps its focus.""")
+
+    scenario = param.Parameter(default=None, doc="""
+        The Scenario validated from the draft, or None while the draft is invalid.""")
+
+    plan = param.Parameter(default=None, doc="The RunPlan of ``scenario`` (dt, steps, memory).")
+
+    error = param.String(default="", doc="The engine's message for an invalid draft ('' when valid).")
+
+    error_key = param.String(default="", doc="Key path the engine named, e.g. 'field[0].B0'.")
+
+    source = param.String(default="", doc="Where the draft came from (file name or 'upload: name').")
+
+    source_error = param.String(default="", doc="Why the last load failed ('' after a good load).")
+
+    status = param.Selector(default="idle", objects=list(STATUSES), doc="State of the latest run.")
+
+    progress = param.Number(default=0.0, bounds=(0.0, 1.0), doc="Fraction of the planned steps done.")
+
+    status_text = param.String(default="", doc="One line about the latest run for people.")
+
+    comparison = param.Parameter(default=None, doc="tracker.Comparison of the latest run (damped, undamped).")
+
+    prepared = param.Parameter(default=None, doc="Drawing data prepared on the worker from ``comparison``.")
+
+    run_scenario = param.Parameter(default=None, doc="The Scenario the shown results came from.")
+
+    loads = param.Integer(default=0, doc="Scenarios loaded in this session (bundled or uploaded).")
+
+    run_count = param.Integer(default=0, doc="Runs finished in this session (completed, cancelled or failed).")
+
+    def __init__(self, prepare=None, **params):
+        super().__init__(**params)
+        self._prepare = prepare
+        self._controller = None
+        self._pending_kind = None       # momentum key chosen but not typed yet
+        self._pending_step_mode = None  # step mode chosen but not typed yet
+
+    # ------------------------------------------------------------------ loading
+    def load_dict(self, data, source=""):
+        """Take a raw scenario dict (as read from TOML) as the new draft."""
+        if not isinstance(data, dict):
+            self.source_error = f"a scenario is a table of keys, not {type(data).__name__}."
+            return False
+        draft = copy.deepcopy(data)
+        fields = draft.get("field", [])
+        if isinstance(fields, dict):
+            draft["field"] = [fields]
+        self.source_error = ""
+        self.source = source
+        self._pending_kind = self._pending_step_mode = None
+        self._set_draft(draft, relayout=True)
+        self.loads += 1
+        return True
+
+    def load_toml(self, text, source=""):
+        """Load TOML text as the draft; on a syntax error keep the current draft.
+
+        Returns
+        -------
+        bool
+            True when loaded (the draft may still be invalid: see ``error``).
+        """
+        try:
+            data = tomllib.loads(text)
+        except tomllib.TOMLDecodeError as exc:
+            self.source_error = f"{source or 'the file'}: not valid TOML: {exc}"
+            return False
+        return self.load_dict(data, source)
+
+    def load_bundled(self, name):
+        """Load one of the bundled scenario files by its file name."""
+        path = bundled_path(name)
+        return self.load_toml(path.read_text(encoding="utf-8"), name)
+
+    # ------------------------------------------------------------------ editing
+    def value(self, path):
+        """Raw draft value at an input path (None when absent)."""
+        node = self.draft
+        for part in path:
+            try:
+                node = node[part]
+            except (KeyError, IndexError, TypeError):
+                return None
+        return node
+
+    def set_value(self, path, raw):
+        """Set (or, for ``raw=None``, remove) one raw value and re-validate.
+
+        Parameters
+        ----------
+        path : tuple
+            ``('title',)``, ``('run', 'duration')``, ``('particle', 'position')`` or
+            ``('field', i, 'B0')``.
+        raw : number, str, list or None
+        """
+        draft = copy.deepcopy(self.draft)
+        node = draft
+        for part in path[:-1]:
+            if isinstance(part, int):
+                node = node[part]
+            else:
+                node = node.setdefault(part, {})
+        last = path[-1]
+        if raw is None:
+            node.pop(last, None)
+        else:
+            node[last] = raw
+        self._set_draft(draft)
+
+    def set_species(self, name):
+        """Switch the species; inputs that only belong to another species are dropped."""
+        draft = copy.deepcopy(self.draft)
+        particle = draft.setdefault("particle", {})
+        particle["species"] = name
+        for other, keys in schema.SPECIES_EXTRAS.items():
+            if other != name:
+                for key in keys:
+                    particle.pop(key, None)
+        self._set_draft(draft, relayout=True)
+
+    def momentum_kind(self):
+        """Which momentum key the draft uses (the first given, or the engine's first)."""
+        particle = self.draft.get("particle", {})
+        for key in schema.momentum_keys():
+            if key in particle:
+                return key
+        return self._pending_kind or schema.momentum_keys()[0]
+
+    def set_momentum_kind(self, kind):
+        """Give the momentum another way; the old value is dropped (no conversion in the UI)."""
+        if kind == self.momentum_kind() and kind in self.draft.get("particle", {}):
+            return
+        draft = copy.deepcopy(self.draft)
+        particle = draft.setdefault("particle", {})
+        for key in schema.momentum_keys():
+            particle.pop(key, None)
+        if kind not in schema.scalar_momentum_keys():
+            particle.pop("direction", None)
+        # the new key stays absent (its box empty) until the user types a value
+        self._pending_kind = kind
+        self._set_draft(draft, relayout=True)
+
+    def step_mode(self):
+        """'dt' when the draft gives a fixed step, else 'steps_per_period'."""
+        run = self.draft.get("run", {})
+        if "dt" in run:
+            return "dt"
+        if "steps_per_period" in run:
+            return "steps_per_period"
+        return self._pending_step_mode or "steps_per_period"
+
+    def set_step_mode(self, mode):
+        """Switch between a fixed dt and steps per period; the other key is dropped."""
+        if mode == self.step_mode():
+            return
+        draft = copy.deepcopy(self.draft)
+        run = draft.setdefault("run", {})
+        run.pop("dt" if mode == "steps_per_period" else "steps_per_period", None)
+        self._pending_step_mode = mode
+        self._set_draft(draft, relayout=True)
+
+    def add_field(self, type_name):
+        """Append a field component of a registered type with no values yet."""
+        if type_name not in FIELD_MODELS:
+            raise KeyError(type_name)
+        draft = copy.deepcopy(self.draft)
+        draft.setdefault("field", []).append({"type": type_name})
+        self._set_draft(draft, relayout=True)
+
+    def remove_field(self, index):
+        """Remove field component ``index``."""
+        draft = copy.deepcopy(self.draft)
+        del draft["field"][index]
+        self._set_draft(draft, relayout=True)
+
+    def move_field(self, index, offset):
+        """Move field component ``index`` by ``offset`` places (clamped to the list)."""
+        draft = copy.deepcopy(self.draft)
+        fields = draft.get("field", [])
+        target = max(0, min(len(fields) - 1, index + offset))
+        if target == index:
+            return
+        fields.insert(target, fields.pop(index))
+        self._set_draft(draft, relayout=True)
+
+    # ------------------------------------------------------------------ validation
+    def _set_draft(self, draft, relayout=False):
+        # remember the chosen momentum key and step mode while their box is empty
+        particle, run = draft.get("particle", {}), draft.get("run", {})
+        if isinstance(particle, dict):
+            given = [key for key in schema.momentum_keys() if key in particle]
+            if given:
+                self._pending_kind = given[0]
+        if isinstance(run, dict):
+            for mode in ("dt", "steps_per_period"):
+                if mode in run:
+                    self._pending_step_mode = mode
+        self.draft = draft
+        self.validate()
+        if relayout:
+            self.layout_version += 1
+
+    def validate(self):
+        """Hand the draft to ``Scenario.from_dict``; keep the Scenario or the engine's message."""
+        try:
+            scenario = Scenario.from_dict(self.draft)
+            plan = scenario.plan()
+        except ScenarioError as exc:
+            self.param.update(scenario=None, plan=None, error=str(exc), error_key=exc.key)
+            return False
+        except Exception as exc:  # an engine bug must not take the page down
+            self.param.update(scenario=None, plan=None,
+                              error=f"the engine could not read this scenario ({type(exc).__name__}: {exc})",
+                              error_key="")
+            return False
+        self.param.update(scenario=scenario, plan=plan, error="", error_key="")
+        return True
+
+    def toml_text(self):
+        """The validated scenario as TOML in SI (None while the draft is invalid)."""
+        return None if self.scenario is None else self.scenario.to_toml()
+
+    @property
+    def results_stale(self):
+        """True when the shown results came from another version of the scenario."""
+        if self.run_scenario is None:
+            return False
+        return self.scenario is None or self.scenario.to_dict() != self.run_scenario.to_dict()
+
+    # ------------------------------------------------------------------ running
+    @property
+    def running(self):
+        return self._controller is not None and not self._controller.done
+
+    @property
+    def controller(self):
+        return self._controller
+
+    def start_run(self, job=None):
+        """Start the current scenario (damped and undamped) on a worker thread.
+
+        Returns
+        -------
+        bool
+            False when the draft is invalid or a run is already going.
+        """
+        if self.scenario is None or self.running:
+            return False
+        self._controller = RunController(self.scenario, job=job, prepare=self._prepare).start()
+        self.param.update(status="running", progress=0.0,
+                          status_text="starting: loading compiled kernels…")
+        return True
+
+    def cancel_run(self):
+        """Ask the running engine to stop; it keeps and marks what it computed."""
+        if self.running:
+            self._controller.cancel()
+            self.status_text = "cancelling at the next chunk of steps…"
+
+    def poll(self):
+        """Copy progress, and the outcome once done, from the worker into the state.
+
+        Call from the page's event loop (a periodic callback). Returns True when the
+        run is over (or there is none).
+        """
+        ctl = self._controller
+        if ctl is None:
+            return True
+        if not ctl.done:
+            if ctl.reported:
+                self.progress = min(1.0, ctl.fraction)
+                if not ctl.cancel_requested:
+                    self.status_text = f"running: {100 * ctl.fraction:.0f} % of the planned steps, {ctl.elapsed:.1f} s"
+            return False
+        self._finish(ctl)
+        return True
+
+    def _finish(self, ctl):
+        self._controller = None
+        if ctl.error:
+            self.param.update(status="failed", status_text=ctl.error, run_count=self.run_count + 1)
+            return
+        comparison = ctl.outcome
+        damped = getattr(comparison, "damped", comparison)
+        meta = damped.meta
+        reason = meta.get("stop_reason", "")
+        steps, planned = meta.get("steps", 0), meta.get("planned_steps", 0)
+        if meta.get("complete", False):
+            status = "completed"
+            text = f"completed: {steps:,} steps per run in {ctl.elapsed:.2f} s"
+        elif reason == "cancelled":
+            status = "cancelled"
+            share = 100.0 * steps / planned if planned else 0.0
+            text = (f"cancelled after {steps:,} of {planned:,} steps ({share:.0f} %): "
+                    "the partial results below are marked as such")
+        else:
+            status = "stopped"
+            text = f"stopped early after {steps:,} of {planned:,} steps: {reason}"
+        self.param.update(
+            run_scenario=ctl.scenario,
+            comparison=comparison,
+            prepared=ctl.prepared,
+            progress=min(1.0, ctl.fraction) if status != "completed" else 1.0,
+            status=status,
+            status_text=text,
+            run_count=self.run_count + 1,
+        )
+
+    def wait_run(self, timeout=None):
+        """Block until the current run is over, then poll (for scripts and tests)."""
+        ctl = self._controller
+        if ctl is not None:
+            ctl.wait(timeout)
+        return self.poll()

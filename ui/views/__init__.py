@@ -1,0 +1,15 @@
+"""Views: field preview, orbit projections, time series, run summary, export.
+
+Each view is a ``pn.viewable.Viewer`` watching a ``LabState``; plots keep one
+ColumnDataSource per curve and only replace its ``.data``. Drawing data for
+results is prepared on the run's worker thread (``prepare_drawing``), decimated
+for drawing only; exports always use the full Result.
+"""
+
+
+def prepare_drawing(comparison):
+    """Drawing data of a Comparison for every results view (runs on the worker thread)."""
+    from .orbits import prepare_orbits
+    from .series import prepare_series
+
+    return {"orbits": prepare_orbits(comparison), "series": prepare_series(comparison)}

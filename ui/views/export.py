@@ -1,0 +1,65 @@
+"""Export: each run's full Result as HDF5 or CSV (written by Result.to_hdf5 / to_csv)."""
+
+import io
+import tempfile
+from pathlib import Path
+
+import panel as pn
+from panel.viewable import Viewer
+
+from ..editors.source import scenario_stem
+from ..theme import html_pane
+
+RUNS = ("damped", "undamped")
+FORMATS = {"h5": "HDF5", "csv": "CSV"}
+
+
+def result_bytes(result, suffix):
+    """File contents of a Result written by the engine's own writer ('h5' or 'csv')."""
+    with tempfile.TemporaryDirectory(prefix="radorbit-lab-") as tmp:
+        path = Path(tmp) / f"result.{suffix}"
+        if suffix == "h5":
+            result.to_hdf5(path)
+        else:
+            result.to_csv(path)
+        return path.read_bytes()
+
+
+class ExportView(Viewer):
+    """Download buttons for both runs in both formats (full data, not the drawn points)."""
+
+    def __init__(self, state, **params):
+        super().__init__(**params)
+        self.state = state
+        self.buttons = {}
+        for name in RUNS:
+            for suffix, label in FORMATS.items():
+                button = pn.widgets.FileDownload(
+                    callback=lambda n=name, s=suffix: self._file(n, s), filename=f"result-{name}.{suffix}",
+                    label=f"{name} · {label}", width=190, margin=(4, 6), disabled=True,
+                    css_classes=[f"download-{name}-{suffix}"])
+                self.buttons[(name, suffix)] = button
+        self._note = html_pane(
+            '<div class="ro-note">Full saved states in SI with units (HDF5 also holds the scenario and the '
+            "run metadata). Plots: use the save tool in each plot's toolbar for a PNG.</div>",
+            sizing_mode="stretch_width", margin=(0, 8))
+        self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0), self._note,
+                                 sizing_mode="stretch_width", margin=0)
+        state.param.watch(self._refresh, "comparison")
+
+    def __panel__(self):
+        return self._layout
+
+    def _refresh(self, *_):
+        stem = scenario_stem(self.state.source)
+        have = self.state.comparison is not None
+        for (name, suffix), button in self.buttons.items():
+            button.disabled = not have
+            partial = have and not getattr(self.state.comparison, name).complete
+            button.filename = f"{stem}-{name}{'-partial' if partial else ''}.{suffix}"
+
+    def _file(self, name, suffix):
+        comparison = self.state.comparison
+        if comparison is None:
+            return None
+        return io.BytesIO(result_bytes(getattr(comparison, name), suffix))

@@ -1,0 +1,114 @@
+"""Time series of both runs: γ(t), Liénard power P(t) (linear or log), radiated energy W(t), χ(t)."""
+
+import numpy as np
+import panel as pn
+from bokeh.models import ColumnDataSource, DataRange1d
+from panel.viewable import Viewer
+
+from tracker import constants
+
+from ..format import TIME_UNITS, energy_unit, pick_unit
+from .decimate import MAX_SERIES_BUCKETS, minmax_indices
+from .palette import RUN_LABELS, RUN_STYLES, new_figure, style_legend
+from ..theme import html_pane
+
+RUNS = ("damped", "undamped")
+COLUMNS = ("t", "gamma", "power", "power_log", "energy", "chi")
+
+
+def _empty():
+    return {c: [] for c in COLUMNS}
+
+
+def prepare_series(comparison):
+    """Decimated time series of both runs in common display units.
+
+    Parameters
+    ----------
+    comparison : tracker.Comparison
+
+    Returns
+    -------
+    dict
+        ``time_unit``/``time_scale`` (s per unit), ``energy_unit``/``energy_scale`` (J per
+        unit), ``runs`` {name: {t, gamma, power (W), power_log (W, NaN where <= 0),
+        energy (cumulative radiated, in energy units), chi}}.
+    """
+    results = {name: getattr(comparison, name) for name in RUNS}
+    t_max = max((float(r.t[-1]) for r in results.values() if len(r.t)), default=0.0)
+    w_max = max((float(np.max(np.abs(r.radiated_energy))) for r in results.values() if len(r.t)), default=0.0)
+    time_unit, time_scale = pick_unit(t_max, TIME_UNITS)
+    e_unit, e_scale = energy_unit(w_max) if w_max > 0 else ("eV", constants.e)
+    runs = {}
+    for name, r in results.items():
+        if not len(r.t):
+            runs[name] = _empty()
+            continue
+        idx = minmax_indices([r.gamma, r.power, r.radiated_energy, r.chi], MAX_SERIES_BUCKETS)
+        power = r.power[idx]
+        runs[name] = {
+            "t": r.t[idx] / time_scale,
+            "gamma": r.gamma[idx],
+            "power": power,
+            "power_log": np.where(power > 0, power, np.nan),
+            "energy": r.radiated_energy[idx] / e_scale,
+            "chi": r.chi[idx],
+        }
+    return {"time_unit": time_unit, "time_scale": time_scale, "energy_unit": e_unit, "energy_scale": e_scale,
+            "runs": runs}
+
+
+class SeriesView(Viewer):
+    """Four panels over a shared time axis; the power panel switches between linear and log."""
+
+    def __init__(self, state, **params):
+        super().__init__(**params)
+        self.state = state
+        t_range = DataRange1d()
+        self.sources = {name: ColumnDataSource(_empty()) for name in RUNS}
+        specs = {
+            "gamma": ("Lorentz factor γ(t)", "γ", {}),
+            "power": ("Liénard power P(t)", "P (W)", {}),
+            "power_log": ("Liénard power P(t), log scale", "P (W)", {"y_axis_type": "log"}),
+            "energy": ("radiated energy W(t), cumulative", "W (eV)", {}),
+            "chi": ("quantum parameter χ(t)", "χ", {}),
+        }
+        self.figures = {}
+        for column, (title, ylabel, extra) in specs.items():
+            fig = new_figure(title, "t (s)", ylabel, height=250, x_range=t_range, **extra)
+            for name in RUNS:
+                fig.line("t", column, source=self.sources[name], legend_label=RUN_LABELS[name], **RUN_STYLES[name])
+            style_legend(fig)
+            self.figures[column] = fig
+        self.log_power = pn.widgets.Switch(value=False, margin=(8, 4, 0, 8), css_classes=["log-power"])
+        self._panes = {c: pn.pane.Bokeh(f, sizing_mode="stretch_width") for c, f in self.figures.items()}
+        self._panes["power_log"].visible = False
+        self.log_power.param.watch(self._toggle_log, "value")
+        power_box = pn.Column(self._panes["power"], self._panes["power_log"], sizing_mode="stretch_width",
+                              margin=0)
+        self._layout = pn.Column(
+            pn.Row(html_pane('<span class="ro-label">log scale for the Liénard power P(t)</span>', margin=(8, 4)),
+                   self.log_power, margin=0),
+            pn.GridBox(self._panes["gamma"], power_box, self._panes["energy"], self._panes["chi"], ncols=2,
+                       sizing_mode="stretch_width"),
+            sizing_mode="stretch_width", margin=0)
+        state.param.watch(self._show, "prepared")
+        self._show()
+
+    def __panel__(self):
+        return self._layout
+
+    def _toggle_log(self, event):
+        self._panes["power"].visible = not event.new
+        self._panes["power_log"].visible = event.new
+
+    def _show(self, *_):
+        prepared = self.state.prepared
+        if not prepared:
+            return
+        data = prepared["series"]
+        for name in RUNS:
+            self.sources[name].data = data["runs"][name]
+        for column, fig in self.figures.items():
+            fig.xaxis.axis_label = f"t ({data['time_unit']})"
+        self.figures["energy"].yaxis.axis_label = f"W ({data['energy_unit']})"

@@ -7,8 +7,9 @@ How to add a pusher
    returning the new ``u = gamma v/c`` after a full step, where
    ``e = q dt E/(2 m c)`` and ``t = q dt B/(2 m)`` (dimensionless). Cite the
    paper in the module docstring, with its equation numbers.
-2. Register it in ``PUSHERS`` below and add a branch to
-   ``tracker.pushers.dispatch.push``.
+2. Register it in ``PUSHERS``, ``REFERENCES`` and ``NOTES`` below and add a
+   branch to ``tracker.pushers.dispatch.push``; ``run.pusher`` and the lab
+   read these dicts.
 3. Tests: |u| conservation in a pure magnetic field and second-order
    convergence against a reference solution (see tests/test_pushers.py).
 """

@@ -1,0 +1,264 @@
+"""Spectrum tab: what a detector would see from the damped and the undamped orbit.
+
+A view only: every number comes from ``tracker.radiation``; this module picks
+grids and display units and draws.
+
+- Spectrum (on demand, "Compute spectrum" button, off the UI thread): either
+  the synchrotron spectrum summed over all directions, dW/domega, or the
+  radiation integral towards the mean velocity, d^2W/(domega dOmega); log axes
+  over photon energy in eV, keV or MeV.
+- Angular map (cheap, redrawn when the time slider is released): dP/dOmega of
+  one saved state per unit emission time, damped and undamped side by side on
+  one colour scale, with theta measured from the velocity (in units of 1/gamma)
+  or from lab +z.
+"""
+
+import threading
+
+import numpy as np
+import panel as pn
+from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper
+from bokeh.plotting import figure
+from panel.viewable import Viewer
+
+from tracker import ScenarioError
+from tracker import radiation
+
+RUNS = ("damped", "undamped")
+RUN_LABELS = {"damped": "damped", "undamped": "undamped (no reaction force)"}
+RUN_STYLES = {
+    "damped": dict(color="#c2410c", line_width=2.2),
+    "undamped": dict(color="#1d5f8a", line_width=1.8, line_dash=[6, 4]),
+}
+METHODS = {
+    "Synchrotron spectrum, all directions": "synchrotron",
+    "Radiation integral, towards the mean velocity": "nufft",
+}
+FRAMES = {"θ from the velocity (units of 1/γ)": "velocity", "θ from lab +z (degrees)": "z"}
+PHOTON_UNITS = (("MeV", 1e6), ("keV", 1e3), ("eV", 1.0))
+#: frequencies per spectrum; the radiation integral keeps undulator lines of width 1/(nN) visible
+SPECTRUM_POINTS = {"synchrotron": 400, "nufft": 2000}
+#: angular map: polar x azimuthal samples, and the polar extent in units of 1/gamma
+MAP_SHAPE = (64, 73)
+VELOCITY_FRAME_EXTENT = 5.0
+TOOLS = "pan,box_zoom,wheel_zoom,reset,save"
+
+
+def photon_unit(max_ev):
+    """(label, eV per unit) for photon energies up to ``max_ev`` (eV)."""
+    for label, scale in PHOTON_UNITS:
+        if max_ev >= scale:
+            return label, scale
+    return PHOTON_UNITS[-1]
+
+
+def compute_spectra(comparison, method):
+    """Spectra of both runs for display.
+
+    Parameters
+    ----------
+    comparison : tracker.Comparison
+    method : {"synchrotron", "nufft"}
+
+    Returns
+    -------
+    dict
+        ``runs``: {name: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text).
+    """
+    runs = {}
+    notes = []
+    if method == "synchrotron":
+        omega = radiation.default_synchrotron_omega(comparison.damped, SPECTRUM_POINTS[method])
+        for name in RUNS:
+            result = getattr(comparison, name)
+            runs[name] = (radiation.photon_energy_ev(omega), radiation.synchrotron_spectrum(result, omega))
+        ylabel = "dW/dω (J s), all directions"
+        wc = radiation.critical_frequency(comparison.damped)
+        notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc.max())):.4g} eV")
+    else:
+        direction = radiation.default_direction(comparison.damped)
+        omega = radiation.default_omega(comparison.damped, direction[None, :], SPECTRUM_POINTS[method])
+        for name in RUNS:
+            result = getattr(comparison, name)
+            values = radiation.spectrum(result, direction[None, :], omega)[0]
+            runs[name] = (radiation.photon_energy_ev(omega), values)
+        ylabel = "d²W/dω dΩ (J s/sr)"
+        notes.append("towards n = (" + ", ".join(f"{v:+.4f}" for v in direction) + ")")
+    return {"runs": runs, "ylabel": ylabel, "note": "; ".join(notes)}
+
+
+def compute_maps(comparison, index, frame):
+    """dP/dOmega (W/sr) of both runs at the damped run's saved state ``index`` (undamped: nearest time).
+
+    Returns
+    -------
+    dict
+        ``maps`` {name: (n_theta, n_phi) array}, ``theta_extent`` (display units),
+        ``theta_label``, ``time`` (s), ``gamma``.
+    """
+    damped = comparison.damped
+    t = float(damped.t[index])
+    gamma = float(damped.gamma[index])
+    phi = np.linspace(0.0, 2.0 * np.pi, MAP_SHAPE[1])
+    if frame == "velocity":
+        extent = VELOCITY_FRAME_EXTENT
+        theta = np.linspace(0.0, extent / gamma, MAP_SHAPE[0])
+        label = "γθ from the velocity"
+    else:
+        extent = 180.0
+        theta = np.linspace(0.0, np.pi, MAP_SHAPE[0])
+        label = "θ from +z (deg)"
+    maps = {}
+    for name in RUNS:
+        result = getattr(comparison, name)
+        i = int(np.clip(np.searchsorted(result.t, t), 0, len(result.t) - 1))
+        maps[name] = radiation.angular_distribution(result, i, theta, phi, axis=frame)
+    return {"maps": maps, "theta_extent": extent, "theta_label": label, "time": t, "gamma": gamma}
+
+
+class SpectrumPanel(Viewer):
+    """Spectrum and angular distribution of a damped/undamped pair; ``update(comparison)`` feeds it."""
+
+    def __init__(self, **params):
+        super().__init__(**params)
+        self._comparison = None
+        self._busy = False
+        self.method = pn.widgets.Select(label="Spectrum", options=METHODS, value="synchrotron", width=360)
+        self.compute_button = pn.widgets.Button(label="Compute spectrum", color="primary", disabled=True,
+                                                width=170, align="end")
+        self.status = pn.pane.Str("Run a scenario, then compute its spectrum here.",
+                                  css_classes=["spectrum-status"], sizing_mode="stretch_width")
+        self.time_slider = pn.widgets.IntSlider(label="Saved state for the angular map", start=0, end=1, value=0,
+                                                disabled=True, width=360)
+        self.frame = pn.widgets.RadioButtonGroup(options=FRAMES, value="velocity", color="light")
+        self.map_status = pn.pane.Str("", css_classes=["angular-status"], sizing_mode="stretch_width")
+
+        self.spectrum_sources = {name: ColumnDataSource(dict(x=[], y=[])) for name in RUNS}
+        self.spectrum_figure = figure(title="Radiated spectrum", x_axis_type="log", y_axis_type="log", height=320,
+                                      sizing_mode="stretch_width", tools=TOOLS, toolbar_location="above")
+        self.spectrum_figure.xaxis.axis_label = "photon energy (eV)"
+        self.spectrum_figure.yaxis.axis_label = "dW/dω (J s)"
+        for name in RUNS:
+            self.spectrum_figure.line("x", "y", source=self.spectrum_sources[name], legend_label=RUN_LABELS[name],
+                                      **RUN_STYLES[name])
+        self.spectrum_figure.legend.location = "bottom_left"
+        self.spectrum_figure.legend.click_policy = "hide"
+        self.spectrum_figure.toolbar.logo = None
+
+        self.color_mapper = LinearColorMapper(palette="Viridis256", low=0.0, high=1.0)
+        empty = dict(image=[np.zeros((2, 2))], x=[0.0], y=[0.0], dw=[360.0], dh=[1.0])
+        self.map_sources = {name: ColumnDataSource(dict(empty)) for name in RUNS}
+        self.map_figures = {}
+        for name in RUNS:
+            fig = figure(title=f"dP/dΩ, {RUN_LABELS[name]}", height=300, width=420, tools=TOOLS,
+                         toolbar_location="above", x_range=(0.0, 360.0), y_range=(0.0, 1.0))
+            fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self.map_sources[name],
+                      color_mapper=self.color_mapper)
+            fig.xaxis.axis_label = "φ (deg)"
+            fig.yaxis.axis_label = "γθ from the velocity"
+            fig.toolbar.logo = None
+            self.map_figures[name] = fig
+        self.map_figures["undamped"].add_layout(
+            ColorBar(color_mapper=self.color_mapper, title="W/sr", width=10), "right")
+
+        self.compute_button.on_click(self._on_compute)
+        self.time_slider.param.watch(self._on_map_change, "value_throttled")
+        self.frame.param.watch(self._on_map_change, "value")
+        self._layout = pn.Column(
+            pn.pane.Markdown("#### Spectrum (computed on demand)"),
+            pn.Row(self.method, self.compute_button),
+            self.status,
+            pn.pane.Bokeh(self.spectrum_figure, sizing_mode="stretch_width"),
+            pn.pane.Markdown("#### Angular distribution of the emitted power, per unit emission time"),
+            pn.Row(self.time_slider, self.frame),
+            self.map_status,
+            pn.Row(pn.pane.Bokeh(self.map_figures["damped"]), pn.pane.Bokeh(self.map_figures["undamped"])),
+            sizing_mode="stretch_width",
+        )
+
+    def __panel__(self):
+        return self._layout
+
+    # ------------------------------------------------------------------ inputs
+    def update(self, comparison):
+        """Show a new damped/undamped pair: reset the spectrum, redraw the angular maps."""
+        self._comparison = comparison
+        for source in self.spectrum_sources.values():
+            source.data = dict(x=[], y=[])
+        n = len(comparison.damped.t)
+        peak = int(np.argmax(comparison.damped.power)) if n else 0
+        self.time_slider.param.update(start=0, end=max(1, n - 1), value=peak, disabled=n < 2)
+        self.compute_button.disabled = n < 2
+        self.status.object = "Ready: press “Compute spectrum”." if n >= 2 else "The run saved too few states."
+        self.draw_maps()
+
+    def draw_maps(self):
+        """Recompute and draw dP/dOmega for the selected saved state (cheap: one state per run)."""
+        if self._comparison is None:
+            return
+        index = int(np.clip(self.time_slider.value, 0, len(self._comparison.damped.t) - 1))
+        try:
+            data = compute_maps(self._comparison, index, self.frame.value)
+        except ScenarioError as exc:
+            self.map_status.object = f"No angular map: {exc}"
+            return
+        top = max(float(np.max(m)) for m in data["maps"].values())
+        self.color_mapper.update(low=0.0, high=top if top > 0 else 1.0)
+        extent = data["theta_extent"]
+        for name, values in data["maps"].items():
+            self.map_sources[name].data = dict(image=[values], x=[0.0], y=[0.0], dw=[360.0], dh=[extent])
+            fig = self.map_figures[name]
+            fig.y_range.update(start=0.0, end=extent)
+            fig.yaxis.axis_label = data["theta_label"]
+        self.map_status.object = (f"t = {data['time']:.4g} s, γ = {data['gamma']:.6g}; peak dP/dΩ = {top:.4g} W/sr "
+                                  "(per unit emission time)")
+
+    def _on_map_change(self, *_):
+        self.draw_maps()
+
+    # ------------------------------------------------------------------ spectrum
+    def compute_spectrum(self, wait=False):
+        """Compute both spectra; in a server session off the UI thread unless ``wait``."""
+        if self._comparison is None or self._busy:
+            return
+        comparison = self._comparison
+        method = self.method.value
+        doc = pn.state.curdoc
+        self._busy = True
+        self.compute_button.disabled = True
+        self.status.object = "Computing the spectrum of both runs…"
+
+        def work():
+            try:
+                payload = compute_spectra(comparison, method)
+            except ScenarioError as exc:
+                payload = {"error": str(exc)}
+            except Exception as exc:  # shown in the tab, never a traceback
+                payload = {"error": f"{type(exc).__name__}: {exc}"}
+            if doc is not None and not wait:
+                doc.add_next_tick_callback(lambda: self._show_spectrum(payload))
+            else:
+                self._show_spectrum(payload)
+
+        if wait or doc is None:
+            work()
+        else:
+            threading.Thread(target=work, daemon=True).start()
+
+    def _on_compute(self, *_):
+        self.compute_spectrum()
+
+    def _show_spectrum(self, payload):
+        self._busy = False
+        self.compute_button.disabled = self._comparison is None
+        if "error" in payload:
+            self.status.object = f"No spectrum: {payload['error']}"
+            return
+        top = max(float(np.max(ev)) for ev, _ in payload["runs"].values())
+        label, scale = photon_unit(top)
+        for name, (ev, values) in payload["runs"].items():
+            shown = np.where(values > 0, values, np.nan)   # log axis
+            self.spectrum_sources[name].data = dict(x=ev / scale, y=shown)
+        self.spectrum_figure.xaxis.axis_label = f"photon energy ({label})"
+        self.spectrum_figure.yaxis.axis_label = payload["ylabel"]
+        self.status.object = f"Spectrum of both runs; {payload['note']}."

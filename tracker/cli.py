@@ -36,15 +36,27 @@ def summary_rows(result):
     ]
 
 
-def print_table(columns, rows, out=None):
-    """Print a plain aligned table: columns = header list, rows = list of lists of str."""
+def print_table(columns, rows, out=None, wrap=96):
+    """Print a plain aligned table: columns = header list, rows = lists of str; the last column wraps."""
+    import textwrap
+
     out = out or sys.stdout
-    widths = [max(len(str(r[i])) for r in [columns, *rows]) for i in range(len(columns))]
-    line = "  ".join(str(c).ljust(w) for c, w in zip(columns, widths))
-    print(line, file=out)
+    widths = [max(len(str(r[i])) for r in [columns, *rows]) for i in range(len(columns) - 1)]
+    last = min(wrap, max(len(str(r[-1])) for r in [columns, *rows]))
+    widths.append(last)
+    pad = "  ".join(" " * w for w in widths[:-1]) + "  "
+
+    def emit(cells):
+        lines = textwrap.wrap(str(cells[-1]), last) or [""]
+        head = "  ".join(str(c).ljust(w) for c, w in zip(cells[:-1], widths)) + "  "
+        print((head + lines[0]).rstrip(), file=out)
+        for more in lines[1:]:
+            print(pad + more, file=out)
+
+    emit(columns)
     print("  ".join("-" * w for w in widths), file=out)
     for r in rows:
-        print("  ".join(str(c).ljust(w) for c, w in zip(r, widths)), file=out)
+        emit(r)
 
 
 def _progress_bar(total_label):

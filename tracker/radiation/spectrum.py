@@ -51,6 +51,7 @@ References
 
 import math
 import os
+from concurrent.futures import ThreadPoolExecutor
 
 # finufft and numba's OpenMP layer spin-wait by default; on a busy two-core
 # machine that costs 5-100x (PERFORMANCE.md). Must be set before OpenMP starts.
@@ -80,6 +81,8 @@ DEFAULT_TAPER = 0.1
 DEFAULT_EPS = 1e-9
 #: the default frequency grid stops at this fraction of the Nyquist limit (common practice, no source)
 NYQUIST_FRACTION = 0.5
+#: threads running single-threaded finufft plans over directions
+NUFFT_WORKERS = min(2, os.cpu_count() or 1)
 #: directions prepared at once (memory: 3 x 8 bytes x samples per direction).
 DIRECTION_CHUNK = 16
 
@@ -91,39 +94,36 @@ def prefactor(charge):
 
 # ---------------------------------------------------------------------- kernels
 @njit(parallel=True, **KERNEL)
-def _prepare(t, x, u, beta_dot, weight, spacing, directions, basis, t_ref, x_ref, alias_level,
-             tau, amp, phase_per_omega):
+def _prepare(t, x, beta, beta_hat, beta_mag, doppler_floor, beta_dot, weight, spacing, directions, basis,
+             t_ref, x_ref, alias_level, tau, amp, phase_per_omega):
     """Per direction: observer times tau (s), the weighted integrand projected on the basis
-    (dimensionless) and the largest phase advance per unit omega over samples that matter (s)."""
+    (dimensionless) and the largest phase advance per unit omega over samples that matter (s).
+
+    doppler_floor = 1/(gamma^2 (1 + |beta|)) = 1 - |beta|, so that
+    1 - n.beta = doppler_floor + |beta| |n - beta_hat|^2/2 without cancellation.
+    """
     c = k.c
     n_dir = directions.shape[0]
     n_s = t.shape[0]
     for d in prange(n_dir):
         nx, ny, nz = directions[d, 0], directions[d, 1], directions[d, 2]
+        e1x, e1y, e1z = basis[d, 0, 0], basis[d, 0, 1], basis[d, 0, 2]
+        e2x, e2y, e2z = basis[d, 1, 0], basis[d, 1, 1], basis[d, 1, 2]
         size = np.empty(n_s)
         step = np.empty(n_s)
         big = 0.0
         for i in range(n_s):
-            ux, uy, uz = u[i, 0], u[i, 1], u[i, 2]
-            umag = math.sqrt(ux * ux + uy * uy + uz * uz)
-            g = math.sqrt(1.0 + umag * umag)
-            bmag = umag / g
-            bx, by, bz = ux / g, uy / g, uz / g
-            # 1 - n.beta without cancellation: 1/(g^2 (1+|b|)) + |b| |n - b_hat|^2/2
-            omb = 1.0 / (g * g * (1.0 + bmag))
-            if umag > 0.0:
-                dx = nx - ux / umag
-                dy = ny - uy / umag
-                dz = nz - uz / umag
-                omb += 0.5 * bmag * (dx * dx + dy * dy + dz * dz)
+            dx = nx - beta_hat[i, 0]
+            dy = ny - beta_hat[i, 1]
+            dz = nz - beta_hat[i, 2]
+            omb = doppler_floor[i] + 0.5 * beta_mag[i] * (dx * dx + dy * dy + dz * dz)
+            bx, by, bz = beta[i, 0], beta[i, 1], beta[i, 2]
             ax, ay, az = beta_dot[i, 0], beta_dot[i, 1], beta_dot[i, 2]
             n_a = nx * ax + ny * ay + nz * az
             inv = 1.0 / (omb * omb)
             # (n x ((n - b) x a)).e = -[(b.e)(n.a) + (a.e)(1 - n.b)] for e normal to n
-            f1 = -((bx * basis[d, 0, 0] + by * basis[d, 0, 1] + bz * basis[d, 0, 2]) * n_a
-                   + (ax * basis[d, 0, 0] + ay * basis[d, 0, 1] + az * basis[d, 0, 2]) * omb) * inv
-            f2 = -((bx * basis[d, 1, 0] + by * basis[d, 1, 1] + bz * basis[d, 1, 2]) * n_a
-                   + (ax * basis[d, 1, 0] + ay * basis[d, 1, 1] + az * basis[d, 1, 2]) * omb) * inv
+            f1 = -((bx * e1x + by * e1y + bz * e1z) * n_a + (ax * e1x + ay * e1y + az * e1z) * omb) * inv
+            f2 = -((bx * e2x + by * e2y + bz * e2z) * n_a + (ax * e2x + ay * e2y + az * e2z) * omb) * inv
             size[i] = f1 * f1 + f2 * f2
             step[i] = omb * spacing[i]
             if size[i] > big:
@@ -280,7 +280,14 @@ class _Prepared:
         self.count = int(keep.sum())
         self.t = np.ascontiguousarray(t[keep])
         self.x = np.ascontiguousarray(np.asarray(result.x, dtype=float)[keep])
-        self.u = np.ascontiguousarray(np.asarray(result.u, dtype=float)[keep])
+        u = np.asarray(result.u, dtype=float)[keep]
+        u_mag = np.sqrt(np.einsum("ij,ij->i", u, u))
+        gamma = np.sqrt(1.0 + u_mag * u_mag)
+        self.beta = np.ascontiguousarray(u / gamma[:, None])
+        self.beta_mag = np.ascontiguousarray(u_mag / gamma)
+        # at rest beta_hat is irrelevant (its weight beta_mag is 0); keep it finite
+        self.beta_hat = np.ascontiguousarray(u / np.where(u_mag > 0, u_mag, 1.0)[:, None])
+        self.doppler_floor = np.ascontiguousarray(1.0 / (gamma * gamma * (1.0 + self.beta_mag)))
         self.beta_dot = np.ascontiguousarray(beta_dot[keep])
         self.weight = np.ascontiguousarray(weight[keep])
         self.spacing = np.ascontiguousarray(spacing[keep])
@@ -294,8 +301,9 @@ class _Prepared:
         amp = np.empty((nd, 2, self.count))
         phase = np.zeros(nd)
         if self.count:
-            _prepare(self.t, self.x, self.u, self.beta_dot, self.weight, self.spacing, directions, basis,
-                     self.t_ref, self.x_ref, ALIAS_LEVEL, tau, amp, phase)
+            _prepare(self.t, self.x, self.beta, self.beta_hat, self.beta_mag, self.doppler_floor, self.beta_dot,
+                     self.weight, self.spacing, directions, basis, self.t_ref, self.x_ref, ALIAS_LEVEL,
+                     tau, amp, phase)
         return tau, amp, phase
 
 
@@ -318,15 +326,30 @@ def _check_sampling(omega_max, phase_per_omega, directions):
             "smaller dt and save_every = 1.")
 
 
-def _nufft_chunk(tau, amp, omega, eps, out):
+def _nufft_directions(tau, amp, s, scale, eps, out, rows):
     import finufft
 
-    scale = float(np.max(omega))
-    s = np.ascontiguousarray(omega / scale)
-    plan = finufft.Plan(3, 1, n_trans=2, eps=eps, isign=1)
-    for d in range(tau.shape[0]):
+    # one single-threaded plan per worker: for 1e5 points x 1e3 frequencies a plan's own
+    # threads gain nothing on two cores (measured), directions in parallel do
+    plan = finufft.Plan(3, 1, n_trans=2, eps=eps, isign=1, nthreads=1)
+    for d in rows:
         plan.setpts(x=np.ascontiguousarray(tau[d] * scale), s=s)
         out[d] = plan.execute(np.ascontiguousarray(amp[d], dtype=np.complex128))
+
+
+def _nufft_chunk(tau, amp, omega, eps, out):
+    """out[d] = finufft type-3 transform of amp[d] (2 components) from points tau[d] to omega."""
+    scale = float(np.max(omega))       # keeps x and s of order one; the product is what matters
+    s = np.ascontiguousarray(omega / scale)
+    workers = max(1, min(NUFFT_WORKERS, tau.shape[0]))
+    if workers == 1:
+        _nufft_directions(tau, amp, s, scale, eps, out, range(tau.shape[0]))
+        return
+    with ThreadPoolExecutor(max_workers=workers) as pool:   # finufft releases the GIL (ctypes)
+        jobs = [pool.submit(_nufft_directions, tau, amp, s, scale, eps, out, range(i, tau.shape[0], workers))
+                for i in range(workers)]
+        for job in jobs:
+            job.result()
 
 
 def radiation_amplitudes(result, directions, omega, method="nufft", window="auto", taper=DEFAULT_TAPER,

@@ -170,6 +170,9 @@ def run_spectrum(args):
     print(f"spectrum of {source} ({len(result.t):,} saved states), method {method}")
     print(f"omega {omega[0]:.4g} .. {omega[-1]:.4g} rad/s ({_fmt_photon(omega[0])} .. {_fmt_photon(omega[-1])}), "
           f"{len(omega)} points, log-spaced")
+    if not args.omega_range and method != "synchrotron":
+        print("default grid: from the frequency resolution to half the highest frequency the saved states "
+              "resolve; track with a smaller dt and save_every = 1 to reach higher")
 
     if method == "synchrotron":
         from .synchrotron import critical_frequency, photon_spectrum, synchrotron_spectrum

@@ -84,6 +84,8 @@ def compute_spectra(comparison, method):
             runs[name] = (radiation.photon_energy_ev(omega), values)
         ylabel = "d²W/dω dΩ (J s/sr)"
         notes.append("towards n = (" + ", ".join(f"{v:+.4f}" for v in direction) + ")")
+        notes.append(f"up to {float(radiation.photon_energy_ev(omega[-1])):.4g} eV, half the highest frequency "
+                     "the saved states resolve")
     return {"runs": runs, "ylabel": ylabel, "note": "; ".join(notes)}
 
 

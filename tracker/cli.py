@@ -192,6 +192,12 @@ def main(argv=None):
     except KeyboardInterrupt:
         print("radorbit: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # output piped into `head` and closed early: not an error of ours
+        import os
+
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
 
 
 if __name__ == "__main__":

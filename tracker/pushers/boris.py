@@ -28,11 +28,14 @@ def boris_push(ux, uy, uz, ex, ey, ez, tx, ty, tz):
     umx = ux + ex
     umy = uy + ey
     umz = uz + ez
-    inv_g = 1.0 / math.sqrt(1.0 + umx * umx + umy * umy + umz * umz)
+    g2 = 1.0 + umx * umx + umy * umy + umz * umz
+    inv_g = 1.0 / math.sqrt(g2)
+    # s = 2 t/(1 + |t|^2) with t = tau/gamma equals 2 gamma^2/(gamma^2 + |tau|^2): no square root
+    # on its path, so it overlaps with 1/gamma instead of waiting for it
+    f = 2.0 * g2 / (g2 + tx * tx + ty * ty + tz * tz)
     tx *= inv_g
     ty *= inv_g
     tz *= inv_g
-    f = 2.0 / (1.0 + tx * tx + ty * ty + tz * tz)
     # u' = u- + u- x t
     upx = umx + (umy * tz - umz * ty)
     upy = umy + (umz * tx - umx * tz)

@@ -59,7 +59,8 @@ def test_ll_uniform_b_follows_exact_coth_cooling():
     # physics reference table: gamma0 = 10 at 0.1 tau_B gives 5.0582307964
     assert exact[-1] == pytest.approx(5.0582307964, rel=1e-6)
     assert result.t[-1] == pytest.approx(duration, rel=1e-12)
-    assert np.max(np.abs(result.gamma / exact - 1.0)) < 1e-4
+    # measured 8e-12: the kick acts along the rotated momentum, so the split step keeps the energy law
+    assert np.max(np.abs(result.gamma / exact - 1.0)) < 1e-8
     # radiated energy equals the kinetic energy lost (p perpendicular to B: LL power = Lienard power)
     lost = result.kinetic_energy[0] - result.kinetic_energy[-1]
     assert result.radiated_energy[-1] == pytest.approx(lost, rel=1e-4)

@@ -144,12 +144,19 @@ def create_app(initial_scenario_path=None):
         section_card("Field preview", FieldPreview(state)),
         sizing_mode="stretch_width", margin=0,
     )
-    results_tab = pn.Column(
-        section_card("Summary", SummaryView(state), ExportView(state)),
-        section_card("Orbit projections (zoom one, the others follow)", OrbitView(state)),
-        section_card("Time series", SeriesView(state)),
-        sizing_mode="stretch_width", margin=0,
-    )
+    plots = pn.Column(sizing_mode="stretch_width", margin=0)
+
+    def build_plots(*_):
+        # the eight result figures are made on the first result, which keeps page loads light
+        if state.prepared is not None and not plots.objects:
+            plots.objects = [
+                section_card("Orbit projections (zoom one, the others follow)", OrbitView(state)),
+                section_card("Time series", SeriesView(state)),
+            ]
+
+    state.param.watch(build_plots, "prepared")
+    results_tab = pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
+                            sizing_mode="stretch_width", margin=0)
     tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab)])
     spectrum_error = html_pane("", visible=False, sizing_mode="stretch_width")
     if spectrum is not None:

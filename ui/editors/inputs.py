@@ -160,9 +160,10 @@ class EntryRow(Viewer):
     def show_error(self, error_key, message):
         """Show ``message`` under the row when ``error_key`` names this input."""
         mine = error_belongs_to(error_key, self.key)
-        if mine:
-            self._error.object = (f'<div class="ro-error" id="err-{slug(self.key)}" '
-                                  f'style="color:#b3261e;font-size:12.5px;">{html.escape(message)}</div>')
+        text = (f'<div class="ro-error" id="err-{slug(self.key)}" '
+                f'style="color:#b3261e;font-size:12.5px;">{html.escape(message)}</div>') if mine else ""
+        if self._error.object != text:
+            self._error.object = text
         self._error.visible = mine
         for i, box in enumerate(self._boxes):
             bad = mine and (self.kind != "vector" or error_key in (self.key, f"{self.key}[{i}]"))

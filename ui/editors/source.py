@@ -46,7 +46,7 @@ class ScenarioSource(Viewer):
         self.description.param.watch(lambda e: self._text_changed("description", e.new), "value")
         self.message = html_pane("", sizing_mode="stretch_width", margin=(0, 8))
         state.param.watch(self._reloaded, "layout_version")
-        state.param.watch(self._show_message, ["source", "source_error", "scenario"])
+        state.param.watch(self._show_message, ["source", "source_error", "scenario", "loads"])
         self._reloaded()
         self._show_message()
         self._layout = pn.Column(
@@ -94,7 +94,8 @@ class ScenarioSource(Viewer):
         if state.source_error:
             text = f'<div class="ro-error" id="source-error" style="color:#b3261e">{html.escape(state.source_error)}</div>'
         else:
-            text = f'<div class="ro-note" id="source-name">editing: {html.escape(state.source or "new scenario")}</div>'
+            text = (f'<div class="ro-note" id="source-name" data-loads="{state.loads}">'
+                    f'editing: {html.escape(state.source or "new scenario")}</div>')
         self.message.object = text
 
     def _toml_file(self):

@@ -20,9 +20,19 @@ TOOLS = "pan,box_zoom,wheel_zoom,reset,save"
 
 
 def new_figure(title, x_label, y_label, height=260, **kwargs):
-    """A Bokeh figure in the lab's style, with the save tool for PNG export."""
-    fig = figure(title=title, height=height, sizing_mode="stretch_width", tools=TOOLS,
-                 toolbar_location="above", **kwargs)
+    """A Bokeh figure in the lab's style, with the save tool for PNG export.
+
+    Stretches to the available width unless a ``frame_width`` is given.
+    """
+    if "frame_width" in kwargs:
+        # Bokeh sizes the canvas around the frame; Panel lays out by width/height,
+        # so give it room for axes, title, toolbar and legend
+        kwargs.setdefault("frame_height", height)
+        kwargs.setdefault("width", kwargs["frame_width"] + 100)
+        kwargs.setdefault("height", kwargs["frame_height"] + 130)
+    else:
+        kwargs.update(height=height, sizing_mode="stretch_width")
+    fig = figure(title=title, tools=TOOLS, toolbar_location="above", **kwargs)
     fig.xaxis.axis_label = x_label
     fig.yaxis.axis_label = y_label
     fig.title.text_font_size = "13px"

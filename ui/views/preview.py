@@ -17,6 +17,7 @@ from tracker.units import parse_scalar, parse_vector
 
 from ..entries import entry_to_raw
 from ..format import LENGTH_UNITS, TIME_UNITS, pick_unit, quantity_text
+from .document import apply_to_models
 from .palette import B_PALETTE, COMPONENT_PALETTE, E_PALETTE, RUN_STYLES, START_COLOR, new_figure
 from ..theme import html_pane
 
@@ -312,47 +313,52 @@ class FieldPreview(Viewer):
         step_h, step_v = h[1] - h[0], v[1] - v[0]
         images = dict(zip("EBC", slice_images(grid, self.component.value)))
         log = self.log_scale.value
-        notes = []
+        notes, updates = [], {}
         for key, image in images.items():
-            fig, renderer = self.figures[key], self.renderers[key]
             if key == "C":
                 finite = image[np.isfinite(image)]
                 top = float(np.max(np.abs(finite))) if finite.size else 0.0
-                mapper = self.mappers[key]["linear"]
-                mapper.update(low=-(top or 1.0), high=top or 1.0)
                 unit_c = "V/m" if self.component.value.startswith("E") else "T"
-                fig.title.text = f"{self.component.value} ({unit_c})"
-                shown = image
+                updates[key] = ("linear", -(top or 1.0), top or 1.0, f"{self.component.value} ({unit_c})", image)
+                continue
+            limits = magnitude_limits(image, log)
+            low, high = limits or (0.0, 1.0)
+            label = "|E| (V/m)" if key == "E" else "|B| (T)"
+            if limits is None:
+                notes.append(f"{'E' if key == 'E' else 'B'} is zero everywhere in this window")
+                shown = np.full_like(image, np.nan)  # grey, not the palette's dark end
             else:
-                limits = magnitude_limits(image, log)
-                mapper = self.mappers[key]["log" if log and limits else "linear"]
-                low, high = limits or (0.0, 1.0)
-                mapper.update(low=low, high=high)
-                label = "|E| (V/m)" if key == "E" else "|B| (T)"
-                fig.title.text = label if limits else f"{label}: zero in this window"
-                if limits is None:
-                    notes.append(f"{'E' if key == 'E' else 'B'} is zero everywhere in this window")
-                    shown = np.full_like(image, np.nan)  # grey, not the palette's dark end
-                else:
-                    shown = np.where(image > 0, image, low) if log else image
-            if renderer.glyph.color_mapper is not mapper:
-                renderer.glyph.color_mapper = mapper
-                self.colorbars[key].color_mapper = mapper
-            self.images[key].data = {"image": [shown], "x": [h[0] - step_h / 2], "y": [v[0] - step_v / 2],
-                                     "dw": [h[-1] - h[0] + step_h], "dh": [v[-1] - v[0] + step_v]}
-            fig.xaxis.axis_label = f"{AXES[a]} ({unit})"
-            fig.yaxis.axis_label = f"{AXES[b]} ({unit})"
-        self.x_range.update(start=h[0] - step_h / 2, end=h[-1] + step_h / 2)
-        self.y_range.update(start=v[0] - step_v / 2, end=v[-1] + step_v / 2)
+                shown = np.where(image > 0, image, low) if log else image
+            updates[key] = ("log" if log and limits else "linear", low, high,
+                            label if limits else f"{label}: zero in this window", shown)
         start = np.asarray(scenario.particle.position)
-        self.start.data = {"h": [start[a] / scale], "v": [start[b] / scale]}
-        self.orbit.data = self._orbit_projection(a, b, scale)
+        orbit = self._orbit_projection(a, b, scale)
+
+        def change():
+            for key, (kind, low, high, title, shown) in updates.items():
+                fig, renderer = self.figures[key], self.renderers[key]
+                mapper = self.mappers[key][kind]
+                mapper.update(low=low, high=high)
+                if renderer.glyph.color_mapper is not mapper:
+                    renderer.glyph.color_mapper = mapper
+                    self.colorbars[key].color_mapper = mapper
+                fig.title.text = title
+                self.images[key].data = {"image": [shown], "x": [h[0] - step_h / 2], "y": [v[0] - step_v / 2],
+                                         "dw": [h[-1] - h[0] + step_h], "dh": [v[-1] - v[0] + step_v]}
+                fig.xaxis.axis_label = f"{AXES[a]} ({unit})"
+                fig.yaxis.axis_label = f"{AXES[b]} ({unit})"
+            self.x_range.update(start=h[0] - step_h / 2, end=h[-1] + step_h / 2)
+            self.y_range.update(start=v[0] - step_v / 2, end=v[-1] + step_v / 2)
+            self.start.data = {"h": [start[a] / scale], "v": [start[b] / scale]}
+            self.orbit.data = orbit
+
+        apply_to_models(change)
         where = ", ".join(f"{c / scale:.4g}" for c in centre)
         self.message.object = (
             f'<div class="ro-note" id="preview-message">{plane} plane through ({where}) {unit}, '
             f"t = {quantity_text(t, TIME_UNITS, 4)}, {GRID}×{GRID} points from Scenario.fields_at; "
             "white dot: particle start"
-            + ("; line: last damped orbit" if len(self.orbit.data["h"]) else "")
+            + ("; line: last damped orbit" if len(orbit["h"]) else "")
             + (f"; {'; '.join(notes)}" if notes else "") + ".</div>")
 
     def _orbit_projection(self, a, b, scale):
@@ -362,8 +368,7 @@ class FieldPreview(Viewer):
         orbits = prepared["orbits"]
         run = orbits["runs"]["damped"]
         h, v = AXES[a], AXES[b]
-        return {"h": np.asarray(run[h]) * (orbits["scales"][h] / scale),
-                "v": np.asarray(run[v]) * (orbits["scales"][v] / scale)}
+        return {"h": np.asarray(run[h]) / scale, "v": np.asarray(run[v]) / scale}
 
 
 def _label(text):

@@ -9,6 +9,7 @@ from tracker import constants
 
 from ..format import TIME_UNITS, energy_unit, pick_unit
 from .decimate import MAX_SERIES_BUCKETS, minmax_indices
+from .document import apply_to_models
 from .palette import RUN_LABELS, RUN_STYLES, new_figure, style_legend
 from ..theme import html_pane
 
@@ -107,8 +108,12 @@ class SeriesView(Viewer):
         if not prepared:
             return
         data = prepared["series"]
-        for name in RUNS:
-            self.sources[name].data = data["runs"][name]
-        for column, fig in self.figures.items():
-            fig.xaxis.axis_label = f"t ({data['time_unit']})"
-        self.figures["energy"].yaxis.axis_label = f"W ({data['energy_unit']})"
+
+        def change():
+            for name in RUNS:
+                self.sources[name].data = data["runs"][name]
+            for fig in self.figures.values():
+                fig.xaxis.axis_label = f"t ({data['time_unit']})"
+            self.figures["energy"].yaxis.axis_label = f"W ({data['energy_unit']})"
+
+        apply_to_models(change)

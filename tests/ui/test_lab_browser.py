@@ -1,0 +1,221 @@
+"""The lab in a real headless Chromium: edit, run, compare with the engine, errors, cancel, sessions."""
+
+import math
+import re
+import subprocess
+import sys
+import tomllib
+
+import pytest
+
+import tracker
+from tracker import Scenario, constants
+from ui.bundled import bundled_path, bundled_scenarios
+from ui.format import ENERGY_DIGITS, ENERGY_UNITS, energy_text
+
+from lab_helpers import ROOT, free_port, wait_for_http
+
+pytestmark = pytest.mark.browser
+
+RING = "storage_ring_bend.toml"
+LASER = "laser_headon_gev.toml"
+RUN_TIMEOUT = 90_000  # ms; a fresh CI machine compiles the kernels on the first run
+
+
+def expect(locator):
+    from playwright.sync_api import expect as _expect
+
+    return _expect(locator)
+
+
+def open_lab(page, url, errors=None):
+    if errors is not None:
+        page.on("pageerror", lambda exc: errors.append(str(exc)))
+    page.goto(url)
+    expect(page.locator(".run-button button")).to_be_enabled(timeout=60_000)
+
+
+def open_bundled(page, name):
+    """Open a bundled scenario and wait until its forms are rebuilt."""
+    loads = int(page.locator("#source-name").get_attribute("data-loads"))
+    label = f"{bundled_scenarios()[name]} ({name})"
+    page.locator(".bundled-select select").select_option(label=label)
+    page.locator(".open-bundled button").click()
+    expect(page.locator(f'#source-name[data-loads="{loads + 1}"]')).to_contain_text(name)
+    expect(page.locator("#scenario-title")).to_have_text(bundled_scenarios()[name])
+
+
+def type_into(page, css, text):
+    box = page.locator(f"{css} input")
+    box.fill(text)
+    box.press("Enter")
+
+
+def run_and_wait(page, status="completed", runs=1):
+    page.locator(".run-button button").click()
+    done = page.locator(f'#run-status[data-status="{status}"][data-runs="{runs}"]')
+    expect(done).to_be_visible(timeout=RUN_TIMEOUT)
+
+
+def joules(text):
+    """Energy in J from the page's 'number eV-multiple' text."""
+    value, unit = text.split()
+    return float(value) * dict(ENERGY_UNITS)[unit] * constants.e
+
+
+def displayed_tolerance(text):
+    """Half a unit in the last of the ENERGY_DIGITS significant digits of a shown energy, in J."""
+    value, unit = text.split()
+    exponent = math.floor(math.log10(abs(float(value)))) if float(value) else 0
+    return 0.5 * 10.0 ** (exponent - (ENERGY_DIGITS - 1)) * dict(ENERGY_UNITS)[unit] * constants.e
+
+
+def edited_ring(b_z):
+    data = tomllib.loads(bundled_path(RING).read_text(encoding="utf-8"))
+    data["field"][0]["B"][2] = b_z
+    return Scenario.from_dict(data)
+
+
+def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts):
+    errors = []
+    open_lab(page, lab_url, errors)
+    open_bundled(page, RING)
+    steps_before = page.locator("#plan-steps").inner_text()
+    type_into(page, ".in-field-0-B-2", "1.2 T")
+    scenario = edited_ring("1.2 T")
+    expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
+    assert page.locator("#plan-steps").inner_text() != steps_before
+    run_and_wait(page)
+
+    expected = tracker.compare(scenario)
+    unedited = tracker.compare(edited_ring("1.4295604 T"))
+    for name in ("damped", "undamped"):
+        cell = page.locator(f"#sum-energy_radiated-{name}")
+        want = getattr(expected, name).summary()["energy_radiated"]
+        expect(cell).to_have_text(energy_text(want))
+        shown = cell.inner_text()
+        # independent of the formatter: equal to the displayed precision (6 significant digits)
+        assert abs(joules(shown) - want) <= displayed_tolerance(shown)
+        assert shown != energy_text(getattr(unedited, name).summary()["energy_radiated"])
+    expect(page.locator(".ro-badge.complete").first).to_be_visible()
+    page.wait_for_function(
+        "() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
+        " if (m.data && m.data.gamma && m.data.gamma.length > 10) return true; return false; }")
+    page.screenshot(path=str(artifacts / "lab-results.png"), full_page=True)
+    page.locator(".bk-tab", has_text="Fields").click()
+    page.screenshot(path=str(artifacts / "lab-fields.png"), full_page=True)
+    assert errors == []
+
+
+def test_invalid_entry_shows_the_message_and_the_lab_keeps_working(page, lab_url):
+    errors = []
+    open_lab(page, lab_url, errors)
+    open_bundled(page, LASER)
+    type_into(page, ".in-field-0-a0", "abc")
+    message = page.locator("#err-field-0-a0")
+    expect(message).to_be_visible()
+    expect(message).to_contain_text("field[0].a0: cannot read 'abc'")
+    expect(page.locator("#scenario-error")).to_contain_text("field[0].a0")
+    expect(page.locator(".run-button button")).to_be_disabled()
+    assert "Traceback" not in page.content()
+
+    type_into(page, ".in-field-0-a0", "10")
+    expect(page.locator("#err-field-0-a0")).to_have_count(0)
+    expect(page.locator("#scenario-ok")).to_be_visible()
+    run_and_wait(page)
+    data = tomllib.loads(bundled_path(LASER).read_text(encoding="utf-8"))
+    data["field"][0]["a0"] = 10
+    want = tracker.compare(Scenario.from_dict(data)).damped.summary()["energy_radiated"]
+    expect(page.locator("#sum-energy_radiated-damped")).to_have_text(energy_text(want))
+    assert errors == []
+
+
+def test_upload_and_download_of_scenario_files(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    upload = tmp_path / "my_mirror.toml"
+    upload.write_text(bundled_path("mirror_trap.toml").read_text(encoding="utf-8"), encoding="utf-8")
+    page.locator(".upload-scenario input[type=file]").set_input_files(str(upload))
+    expect(page.locator("#source-name")).to_contain_text("my_mirror.toml")
+    type_into(page, ".in-field-0-B0", "4 T")
+    expect(page.locator("#scenario-ok")).to_be_visible()
+    with page.expect_download() as info:
+        page.locator(".download-scenario button").click()
+    download = info.value
+    assert download.suggested_filename == "my_mirror.toml"
+    text = (tmp_path / "down.toml")
+    download.save_as(text)
+    got = Scenario.from_toml(text.read_text(encoding="utf-8"))
+    data = tomllib.loads(upload.read_text(encoding="utf-8"))
+    data["field"][0]["B0"] = "4 T"
+    assert got.to_dict() == Scenario.from_dict(data).to_dict()
+
+
+def test_cancel_stops_a_long_run_and_keeps_a_marked_partial_result(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, RING)
+    type_into(page, ".in-run-duration", "7 ms")
+    type_into(page, ".in-run-save_every", "100000")
+    expect(page.locator("#plan-steps")).to_have_text(re.compile(r"^\d{2},\d{3},\d{3}$"))
+    page.locator(".run-button button").click()
+    expect(page.locator("#run-status")).to_contain_text("% of the planned steps", timeout=RUN_TIMEOUT)
+    page.locator(".cancel-button button").click()
+    expect(page.locator('#run-status[data-status="cancelled"]')).to_be_visible(timeout=RUN_TIMEOUT)
+    expect(page.locator("#run-status")).to_contain_text("partial")
+    expect(page.locator("#partial-damped")).to_contain_text("cancelled")
+    expect(page.locator("#partial-undamped")).to_be_visible()
+    steps = int(page.locator("#sum-steps-damped").inner_text().replace(",", ""))
+    planned = int(page.locator("#plan-steps").inner_text().replace(",", ""))
+    assert 0 < steps < planned
+    expect(page.locator(".run-button button")).to_be_enabled()
+
+
+def test_two_sessions_run_side_by_side(browser, lab_url):
+    contexts = [browser.new_context(viewport={"width": 1400, "height": 900}) for _ in range(2)]
+    try:
+        slow, quick = (c.new_page() for c in contexts)
+        open_lab(slow, lab_url)
+        open_lab(quick, lab_url)
+        open_bundled(slow, RING)
+        type_into(slow, ".in-run-duration", "7 ms")
+        type_into(slow, ".in-run-save_every", "100000")
+        slow.locator(".run-button button").click()
+        expect(slow.locator('#run-status[data-status="running"]')).to_be_visible()
+
+        # the other session edits, plans and runs while the long run goes on
+        type_into(quick, ".in-field-0-a0", "12")
+        data = tomllib.loads(bundled_path(LASER).read_text(encoding="utf-8"))
+        data["field"][0]["a0"] = 12
+        scenario = Scenario.from_dict(data)
+        expect(quick.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
+        run_and_wait(quick)
+        want = tracker.compare(scenario).damped.summary()["energy_radiated"]
+        expect(quick.locator("#sum-energy_radiated-damped")).to_have_text(energy_text(want))
+        expect(slow.locator('#run-status[data-status="running"]')).to_be_visible()
+
+        # and their scenarios stayed apart
+        expect(slow.locator("#scenario-title")).to_have_text(bundled_scenarios()[RING])
+        expect(quick.locator("#scenario-title")).to_have_text(bundled_scenarios()[LASER])
+        slow.locator(".cancel-button button").click()
+        expect(slow.locator('#run-status[data-status="cancelled"]')).to_be_visible(timeout=RUN_TIMEOUT)
+    finally:
+        for c in contexts:
+            c.close()
+
+
+def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
+    port = free_port()
+    log = open(tmp_path / "lab.log", "w")
+    proc = subprocess.Popen([sys.executable, "-m", "tracker", "lab", str(bundled_path(RING)), "--port", str(port)],
+                            stdout=log, stderr=subprocess.STDOUT, cwd=ROOT)
+    try:
+        wait_for_http(f"http://127.0.0.1:{port}/", timeout=60, process=proc)
+        open_lab(page, f"http://127.0.0.1:{port}/")
+        expect(page.locator("#scenario-title")).to_have_text(bundled_scenarios()[RING])
+        expect(page.locator("#caution")).to_contain_text("not for radiation-safety or shielding decisions")
+    finally:
+        proc.terminate()
+        try:
+            proc.wait(10)
+        except subprocess.TimeoutExpired:
+            proc.kill()
+        log.close()

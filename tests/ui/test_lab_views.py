@@ -1,0 +1,223 @@
+"""The lab's forms and views without a browser: generated forms, error placement, preview, export."""
+
+import sys
+import types
+from dataclasses import replace
+
+import numpy as np
+import panel as pn
+import pytest
+from bokeh.document import Document
+
+import tracker
+from tracker import constants
+from tracker.fields import MODELS
+from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.editors.fields import FieldComposer, model_options
+from ui.editors.run import RunEditor
+from ui.entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
+from ui.format import LENGTH_UNITS, energy_text, pick_unit, unit_label
+from ui.state import LabState
+from ui.views import prepare_drawing
+from ui.views.decimate import minmax_indices, stride_indices
+from ui.views.export import result_bytes
+from ui.views.preview import field_slice, plane_along, slice_images
+from ui.views.summary import summary_html
+
+
+@pytest.fixture
+def ring():
+    s = LabState(prepare=prepare_drawing)
+    s.load_bundled("storage_ring_bend.toml")
+    return s
+
+
+# ---------------------------------------------------------------------- entries and formats
+def test_entries_keep_numbers_si_and_strings_for_the_engine():
+    assert entry_to_raw(" 2 ") == 2 and isinstance(entry_to_raw("2"), int)
+    assert entry_to_raw("1.5") == 1.5 and entry_to_raw("8e22") == 8e22
+    assert entry_to_raw("1.5 T") == "1.5 T"
+    assert entry_to_raw("   ") is None
+    assert raw_to_entry(1.4295604) == "1.4295604" and raw_to_entry("2 GeV") == "2 GeV"
+    assert vector_to_raw(["", " ", ""]) is None
+    assert vector_to_raw(["1", "", "2 T"]) == [1, None, "2 T"]
+    assert vector_entries([0, 0.5, "1 T"]) == ["0", "0.5", "1 T"]
+
+
+def test_energy_text_uses_ev_multiples_with_six_digits():
+    # 1 MeV = 1e6 * e J (CODATA 2018 exact elementary charge)
+    assert energy_text(1e6 * constants.e) == "1 MeV"
+    assert energy_text(2.5e9 * constants.e) == "2.5 GeV"
+    assert energy_text(1.234567e3 * constants.e) == "1.23457 keV"
+    assert energy_text(0.0) == "0 eV"
+
+
+def test_units_for_display():
+    assert pick_unit(3e-5, LENGTH_UNITS) == ("µm", 1e-6)
+    assert pick_unit(2.5e7, LENGTH_UNITS) == ("km", 1e3)
+    assert pick_unit(0.0, LENGTH_UNITS) == ("m", 1.0)
+    assert unit_label("A*m**2") == "A·m²"
+
+
+# ---------------------------------------------------------------------- decimation
+def test_minmax_decimation_keeps_a_one_sample_peak_and_both_ends():
+    n = 1_000_003
+    y = np.zeros(n)
+    y[777_777] = 5.0
+    y[123_456] = -3.0
+    idx = minmax_indices([y], 500)
+    assert len(idx) <= 2 * 500 + 2
+    assert 777_777 in idx and 123_456 in idx and idx[0] == 0 and idx[-1] == n - 1
+    assert np.all(np.diff(idx) > 0)
+
+
+def test_short_series_are_not_decimated():
+    assert np.array_equal(minmax_indices([np.arange(10.0)], 500), np.arange(10))
+    assert np.array_equal(stride_indices(5, 100), np.arange(5))
+    idx = stride_indices(10_001, 1000)
+    assert idx[-1] == 10_000 and len(idx) <= 1002
+
+
+# ---------------------------------------------------------------------- generated forms
+def test_every_registered_field_model_gets_a_form_with_units(ring):
+    composer = FieldComposer(ring)
+    for name, model in MODELS.items():
+        ring.add_field(name)
+        index = len(ring.draft["field"]) - 1
+        rows = [r for r in composer.rows if r.path[:2] == ("field", index)]
+        assert [r.path[2] for r in rows] == [p.name for p in model.params]
+        for row, param in zip(rows, model.params):
+            assert len(row.boxes) == (3 if param.kind == "vector" else 1)
+            assert unit_label(param.unit) in row._unit.object
+
+
+def test_a_newly_registered_field_model_appears_with_no_ui_code(ring, monkeypatch):
+    uniform = MODELS["uniform"]
+    extra = replace(uniform, name="test-sheet", label="Test sheet field",
+                    params=uniform.params + (tracker.fields.Param("thickness", "scalar", "length", 1.0,
+                                                                  positive=True, doc="made-up input"),),
+                    pack=lambda v: [*v["E"], *v["B"]])
+    monkeypatch.setitem(MODELS, "test-sheet", extra)
+    composer = FieldComposer(ring)
+    assert "test-sheet" in model_options().values()
+    ring.add_field("test-sheet")
+    rows = [r for r in composer.rows if r.path[:2] == ("field", 1)]
+    assert [r.path[2] for r in rows] == ["E", "B", "thickness"]
+    assert "m" in rows[2]._unit.object
+    rows[2].boxes[0].value = "-2 mm"  # as the browser would set it
+    assert ring.draft["field"][1]["thickness"] == "-2 mm"
+    assert ring.error == "field[1].thickness: must be positive, not '-2 mm'."
+
+
+def test_error_is_shown_beside_the_input_it_names_only(ring):
+    composer = FieldComposer(ring)
+    b_row = next(r for r in composer.rows if r.key == "field[0].B")
+    e_row = next(r for r in composer.rows if r.key == "field[0].E")
+    b_row.boxes[2].value = "abc"
+    assert ring.error_key == "field[0].B[2]"
+    assert b_row._error.visible and "cannot read &#x27;abc&#x27;" in b_row._error.object
+    assert "ro-bad" in b_row.boxes[2].css_classes and "ro-bad" not in b_row.boxes[0].css_classes
+    assert not e_row._error.visible
+    b_row.boxes[2].value = "1.2 T"
+    assert not b_row._error.visible and "ro-bad" not in b_row.boxes[2].css_classes
+    assert ring.scenario.fields[0].params["B"] == (0.0, 0.0, 1.2)
+
+
+def test_choice_inputs_list_the_engines_registries(ring):
+    from tracker.pushers import PUSHERS
+    from tracker.radiation.reaction import MODELS as REACTIONS
+
+    rows = {r.key: r for r in RunEditor(ring).rows}
+    assert list(rows["run.pusher"].boxes[0].options) == list(PUSHERS)
+    assert list(rows["run.radiation_reaction"].boxes[0].options) == list(REACTIONS)
+
+
+def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
+    lab = create_app()
+    root = pn.panel(lab).get_root(Document())
+    assert root is not None
+    names = lab.tabs._names
+    assert names[:2] == [TAB_FIELDS, TAB_RESULTS]
+    assert lab.state.scenario is not None
+    other = create_app()
+    assert other.state is not lab.state  # every session has its own state
+
+
+# ---------------------------------------------------------------------- preview
+def test_preview_rows_follow_the_vertical_axis():
+    # Paraxial mirror on its axis: Bz = B0 (1 + z^2/L^2), Br = 0
+    # (F. F. Chen, Introduction to Plasma Physics and Controlled Fusion, sec. 2.3.3).
+    scenario = tracker.Scenario.from_dict({
+        "run": {"duration": "1 ns", "dt": "1 ps"},
+        "particle": {"species": "electron", "kinetic_energy": "1 MeV", "direction": [1, 0, 0]},
+        "field": [{"type": "mirror", "B0": "2 T", "L": "0.1 m"}],
+    })
+    grid = field_slice(scenario, "x-z", (0.0, 0.0, 0.0), 0.05, 0.0, n=41)
+    e_mag, b_mag, bz = slice_images(grid, "Bz")
+    centre_column = 20
+    assert grid["h"][centre_column] == pytest.approx(0.0, abs=1e-15)
+    expected = 2.0 * (1.0 + grid["v"] ** 2 / 0.1**2)
+    np.testing.assert_allclose(b_mag[:, centre_column], expected, rtol=1e-12)
+    np.testing.assert_allclose(bz[:, centre_column], expected, rtol=1e-12)
+    assert np.all(e_mag == 0.0)
+
+
+def test_default_plane_holds_the_direction_of_motion():
+    assert plane_along([0.0, 0.0, -1.0]) == "x-z"
+    assert plane_along([1.0, 0.0, 0.0]) == "x-y"
+    assert plane_along([0.05, -1.0, 0.02]) == "x-y"
+    assert plane_along([0.0, 0.87, 0.5]) == "y-z"
+
+
+# ---------------------------------------------------------------------- summary and export
+def test_summary_marks_partial_runs_and_shows_engine_warnings(ring):
+    comparison = tracker.compare(ring.scenario)
+    comparison.damped.meta.update(complete=False, stop_reason="cancelled")
+    comparison.undamped.warnings = [{"kind": "resolution", "message": "few steps per period", "time": 1e-9}]
+    text = summary_html(comparison)
+    assert 'id="partial-damped"' in text and 'id="partial-undamped"' not in text
+    want = energy_text(comparison.damped.summary()["energy_radiated"])
+    assert f'<td id="sum-energy_radiated-damped">{want}</td>' in text
+    assert "few steps per period" in text and "resolution" in text
+
+
+def test_exports_are_the_engines_own_files(ring, tmp_path):
+    comparison = tracker.compare(ring.scenario)
+    path = tmp_path / "damped.h5"
+    path.write_bytes(result_bytes(comparison.damped, "h5"))
+    back = tracker.load_result(path)
+    np.testing.assert_array_equal(back.x, comparison.damped.x)
+    csv = result_bytes(comparison.undamped, "csv").decode()
+    assert csv.splitlines()[1].startswith("t_s,x_m")
+    assert len(csv.splitlines()) == 2 + len(comparison.undamped.t)
+
+
+# ---------------------------------------------------------------------- spectrum tab
+def test_spectrum_tab_gets_every_comparison(monkeypatch):
+    calls = []
+
+    class SpectrumPanel(pn.viewable.Viewer):
+        def __panel__(self):
+            return pn.pane.Markdown("spectrum")
+
+        def update(self, comparison):
+            calls.append(comparison)
+
+    fake = types.ModuleType("ui.views.spectrum")
+    fake.SpectrumPanel = SpectrumPanel
+    monkeypatch.setitem(sys.modules, "ui.views.spectrum", fake)
+    lab = create_app()
+    assert lab.tabs._names[-1] == TAB_SPECTRUM
+    assert lab.state.start_run()
+    lab.state.controller.wait(60)
+    lab.controls._poll()
+    assert calls == [lab.state.comparison]
+
+
+def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
+    monkeypatch.setitem(sys.modules, "ui.views.spectrum", None)  # import raises ModuleNotFoundError
+    panel, message = spectrum_panel()
+    assert panel is None and message == ""
+    lab = create_app()
+    assert TAB_SPECTRUM not in lab.tabs._names
+    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS]

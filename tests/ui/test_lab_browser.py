@@ -70,25 +70,24 @@ def displayed_tolerance(text):
     return 0.5 * 10.0 ** (exponent - (ENERGY_DIGITS - 1)) * dict(ENERGY_UNITS)[unit] * constants.e
 
 
-def edited_ring(b_z):
-    data = tomllib.loads(bundled_path(RING).read_text(encoding="utf-8"))
-    data["field"][0]["B"][2] = b_z
+def edited(name, change):
+    """The bundled scenario ``name`` with ``change(data)`` applied to its raw dict."""
+    data = tomllib.loads(bundled_path(name).read_text(encoding="utf-8"))
+    change(data)
     return Scenario.from_dict(data)
 
 
-def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts):
+def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts, tmp_path):
     errors = []
     open_lab(page, lab_url, errors)
-    open_bundled(page, RING)
-    steps_before = page.locator("#plan-steps").inner_text()
-    type_into(page, ".in-field-0-B-2", "1.2 T")
-    scenario = edited_ring("1.2 T")
-    expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
-    assert page.locator("#plan-steps").inner_text() != steps_before
+    open_bundled(page, LASER)
+    type_into(page, ".in-field-0-a0", "15")
+    scenario = edited(LASER, lambda d: d["field"][0].update(a0=15))
+    expect(page.locator("#scenario-ok")).to_be_visible()
     run_and_wait(page)
 
     expected = tracker.compare(scenario)
-    unedited = tracker.compare(edited_ring("1.4295604 T"))
+    unedited = tracker.compare(edited(LASER, lambda d: None))
     for name in ("damped", "undamped"):
         cell = page.locator(f"#sum-energy_radiated-{name}")
         want = getattr(expected, name).summary()["energy_radiated"]
@@ -98,11 +97,23 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts):
         assert abs(joules(shown) - want) <= displayed_tolerance(shown)
         assert shown != energy_text(getattr(unedited, name).summary()["energy_radiated"])
     expect(page.locator(".ro-badge.complete").first).to_be_visible()
+
+    # the exported file is the engine's full result
+    with page.expect_download() as info:
+        page.locator(".download-damped-h5 button").click()
+    info.value.save_as(tmp_path / "damped.h5")
+    saved = tracker.load_result(tmp_path / "damped.h5")
+    assert saved.summary()["energy_radiated"] == expected.damped.summary()["energy_radiated"]
+    assert len(saved.t) == len(expected.damped.t)
+
     page.wait_for_function(
         "() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
         " if (m.data && m.data.gamma && m.data.gamma.length > 10) return true; return false; }")
+    page.wait_for_timeout(500)  # let the canvases paint
     page.screenshot(path=str(artifacts / "lab-results.png"), full_page=True)
     page.locator(".bk-tab", has_text="Fields").click()
+    expect(page.locator(".in-field-0-a0 input")).to_be_visible()
+    page.wait_for_timeout(500)
     page.screenshot(path=str(artifacts / "lab-fields.png"), full_page=True)
     assert errors == []
 
@@ -110,22 +121,22 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts):
 def test_invalid_entry_shows_the_message_and_the_lab_keeps_working(page, lab_url):
     errors = []
     open_lab(page, lab_url, errors)
-    open_bundled(page, LASER)
-    type_into(page, ".in-field-0-a0", "abc")
-    message = page.locator("#err-field-0-a0")
+    open_bundled(page, RING)
+    type_into(page, ".in-field-0-B-2", "abc")
+    message = page.locator("#err-field-0-B")
     expect(message).to_be_visible()
-    expect(message).to_contain_text("field[0].a0: cannot read 'abc'")
-    expect(page.locator("#scenario-error")).to_contain_text("field[0].a0")
+    expect(message).to_contain_text("field[0].B[2]: cannot read 'abc'")
+    expect(page.locator("#scenario-error")).to_contain_text("field[0].B[2]")
     expect(page.locator(".run-button button")).to_be_disabled()
+    expect(page.locator("#plan-readout")).to_contain_text("No plan")
     assert "Traceback" not in page.content()
 
-    type_into(page, ".in-field-0-a0", "10")
-    expect(page.locator("#err-field-0-a0")).to_have_count(0)
-    expect(page.locator("#scenario-ok")).to_be_visible()
+    type_into(page, ".in-field-0-B-2", "1.2 T")
+    expect(page.locator("#err-field-0-B")).to_have_count(0)
+    scenario = edited(RING, lambda d: d["field"][0]["B"].__setitem__(2, "1.2 T"))
+    expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
     run_and_wait(page)
-    data = tomllib.loads(bundled_path(LASER).read_text(encoding="utf-8"))
-    data["field"][0]["a0"] = 10
-    want = tracker.compare(Scenario.from_dict(data)).damped.summary()["energy_radiated"]
+    want = tracker.compare(scenario).damped.summary()["energy_radiated"]
     expect(page.locator("#sum-energy_radiated-damped")).to_have_text(energy_text(want))
     assert errors == []
 

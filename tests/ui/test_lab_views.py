@@ -13,6 +13,7 @@ import tracker
 from tracker import constants
 from tracker.fields import MODELS
 from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
 from ui.entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
@@ -221,3 +222,21 @@ def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
     lab = create_app()
     assert TAB_SPECTRUM not in lab.tabs._names
     assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS]
+
+
+@pytest.mark.parametrize("name", sorted(bundled_scenarios()))
+def test_every_bundled_scenario_previews_runs_and_draws(name):
+    lab = create_app()
+    assert lab.state.load_bundled(name)
+    preview = next(v for v in lab.page.select(pn.pane.HTML) if 'id="preview-message"' in str(v.object))
+    assert "Scenario.fields_at" in preview.object
+    assert lab.state.start_run()
+    lab.state.controller.wait(120)
+    lab.controls._poll()
+    assert lab.state.status == "completed", lab.state.status_text
+    orbits = lab.state.prepared["orbits"]
+    assert orbits["box"] is not None and orbits["plane"] in ("x-y", "x-z", "y-z")
+    series = lab.state.prepared["series"]["runs"]["damped"]
+    assert len(series["t"]) == len(series["gamma"]) > 1
+    assert lab.tabs.active == 1  # the results tab opens after a run
+    assert "Scenario.fields_at" in preview.object  # the preview redrew around the orbit

@@ -27,7 +27,7 @@ FIT_MARGIN = 1.15
 #: second widest (common practice, no source: beyond it the narrow direction is invisible)
 EQUAL_SCALE_RATIO = 20.0
 #: plot frame size in px (three fit beside the sidebar on a 1600 px screen)
-FRAME = 250
+FRAME = 285
 
 
 def _empty_orbit():
@@ -127,7 +127,8 @@ class OrbitView(Viewer):
             pn.Row(self.equal, html_pane('<span class="ro-note">squares: end points · circle: start · '
                                          "a click on a legend entry hides that curve</span>", margin=(10, 8)),
                    margin=0),
-            pn.Row(*[pn.pane.Bokeh(f) for f in self.figures], sizing_mode="stretch_width"),
+            # a fixed-size row: a stretching row would widen the square frames
+            pn.Row(*[pn.pane.Bokeh(f) for f in self.figures]),
             sizing_mode="stretch_width", margin=0)
         state.param.watch(self._new_result, "prepared")
         self._new_result()

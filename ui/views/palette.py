@@ -25,11 +25,8 @@ def new_figure(title, x_label, y_label, height=260, **kwargs):
     Stretches to the available width unless a ``frame_width`` is given.
     """
     if "frame_width" in kwargs:
-        # Bokeh sizes the canvas around the frame; Panel lays out by width/height,
-        # so give it room for axes, title, toolbar and legend
         kwargs.setdefault("frame_height", height)
-        kwargs.setdefault("width", kwargs["frame_width"] + 100)
-        kwargs.setdefault("height", kwargs["frame_height"] + 130)
+        kwargs.update(width=None, height=None)
     else:
         kwargs.update(height=height, sizing_mode="stretch_width")
     fig = figure(title=title, tools=TOOLS, toolbar_location="above", **kwargs)

@@ -9,7 +9,8 @@ import html
 
 import numpy as np
 import panel as pn
-from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper, LogColorMapper, Range1d
+from bokeh.models import (BasicTickFormatter, ColorBar, ColumnDataSource, LinearColorMapper, LogColorMapper,
+                          LogTickFormatter, Range1d)
 from panel.viewable import Viewer
 
 from tracker import ScenarioError, constants
@@ -70,6 +71,13 @@ def slice_images(grid, component):
     which = COMPONENTS.index(component)
     comp = (e if which < 3 else b)[:, :, which % 3]
     return np.sqrt(np.sum(e * e, axis=-1)), np.sqrt(np.sum(b * b, axis=-1)), comp
+
+
+def tick_formatter(kind):
+    """Colour-bar labels: powers of ten on a log scale, short scientific numbers otherwise."""
+    if kind == "log":
+        return LogTickFormatter()
+    return BasicTickFormatter(precision=1, power_limit_high=4, power_limit_low=-2)
 
 
 def plane_along(u):
@@ -133,7 +141,8 @@ class FieldPreview(Viewer):
             renderer = fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=source,
                                  color_mapper=mappers["log"] if key != "C" else linear)
             bar = ColorBar(color_mapper=renderer.glyph.color_mapper, width=10, label_standoff=6,
-                           major_label_text_font_size="10px")
+                           major_label_text_font_size="10px",
+                           formatter=tick_formatter("log" if key != "C" else "linear"))
             fig.add_layout(bar, "right")
             fig.line("h", "v", source=self.orbit, color="white", line_width=1.4, alpha=0.9)
             fig.line("h", "v", source=self.orbit, color=RUN_STYLES["damped"]["color"], line_width=0.8)
@@ -175,11 +184,13 @@ class FieldPreview(Viewer):
 
     # ------------------------------------------------------------------ window
     def _set_window(self, centre, half_width):
+        """Fill the window boxes, in the unit that suits the half-width (e.g. '-17.99 µm')."""
+        unit, scale = pick_unit(half_width, LENGTH_UNITS)
         self._syncing = True
         try:
             for box, value in zip(self.centre, centre):
-                box.value = f"{float(value):.6g}"
-            self.half_width.value = f"{float(half_width):.6g}"
+                box.value = f"{float(value) / scale:.5g} {unit}"
+            self.half_width.value = f"{float(half_width) / scale:.5g} {unit}"
         finally:
             self._syncing = False
 
@@ -342,6 +353,7 @@ class FieldPreview(Viewer):
                 if renderer.glyph.color_mapper is not mapper:
                     renderer.glyph.color_mapper = mapper
                     self.colorbars[key].color_mapper = mapper
+                    self.colorbars[key].formatter = tick_formatter(kind)
                 fig.title.text = title
                 self.images[key].data = {"image": [shown], "x": [h[0] - step_h / 2], "y": [v[0] - step_v / 2],
                                          "dw": [h[-1] - h[0] + step_h], "dh": [v[-1] - v[0] + step_v]}

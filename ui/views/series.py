@@ -2,7 +2,7 @@
 
 import numpy as np
 import panel as pn
-from bokeh.models import ColumnDataSource, DataRange1d
+from bokeh.models import ColumnDataSource, Range1d
 from panel.viewable import Viewer
 
 from tracker import constants
@@ -55,8 +55,46 @@ def prepare_series(comparison):
             "energy": r.radiated_energy[idx] / e_scale,
             "chi": r.chi[idx],
         }
+    gamma_label = "γ"
+    first = next((r.gamma[0] for r in results.values() if len(r.t)), None)
+    spread = max((float(np.ptp(run["gamma"])) for run in runs.values() if len(run["t"])), default=0.0)
+    if first is not None and 0 < spread < RELATIVE_GAMMA * first:
+        # a nearly constant γ reads better as its relative change (display only)
+        gamma_label = "γ/γ₀ − 1"
+        for run in runs.values():
+            if len(run["t"]):
+                run["gamma"] = run["gamma"] / first - 1.0
+    limits = {column: axis_limits([run[column] for run in runs.values()], log=column == "power_log")
+              for column in COLUMNS}
     return {"time_unit": time_unit, "time_scale": time_scale, "energy_unit": e_unit, "energy_scale": e_scale,
-            "runs": runs}
+            "runs": runs, "limits": limits, "gamma_label": gamma_label}
+
+
+#: below this relative spread γ(t) is drawn as γ/γ₀ - 1 (display only; common practice, no source)
+RELATIVE_GAMMA = 1e-4
+
+#: empty space around curves, as a fraction of their span (display only)
+PAD = 0.05
+
+
+def axis_limits(columns, log=False):
+    """(start, end) of an axis showing every finite value of ``columns`` with a margin.
+
+    On a log axis only positive values count and the margin is a factor. None when
+    there is nothing to show.
+    """
+    values = np.concatenate([np.asarray(c, dtype=float) for c in columns]) if columns else np.array([])
+    values = values[np.isfinite(values)]
+    if log:
+        values = values[values > 0]
+    if not values.size:
+        return None
+    lo, hi = float(values.min()), float(values.max())
+    if log:
+        factor = (hi / lo) ** PAD if hi > lo else 2.0
+        return lo / factor, hi * factor
+    pad = PAD * (hi - lo) if hi > lo else (abs(hi) * 1e-3 or 1.0)
+    return lo - pad, hi + pad
 
 
 class SeriesView(Viewer):
@@ -65,7 +103,9 @@ class SeriesView(Viewer):
     def __init__(self, state, **params):
         super().__init__(**params)
         self.state = state
-        t_range = DataRange1d()
+        # explicit ranges, set from each result: auto-ranging kept the extent of an earlier run
+        t_range = Range1d(0, 1)
+        self.ranges = {"t": t_range}
         self.sources = {name: ColumnDataSource(_empty()) for name in RUNS}
         specs = {
             "gamma": ("Lorentz factor γ(t)", "γ", {}),
@@ -76,7 +116,9 @@ class SeriesView(Viewer):
         }
         self.figures = {}
         for column, (title, ylabel, extra) in specs.items():
-            fig = new_figure(title, "t (s)", ylabel, height=250, x_range=t_range, **extra)
+            self.ranges[column] = Range1d(1, 10) if column == "power_log" else Range1d(0, 1)
+            fig = new_figure(title, "t (s)", ylabel, height=250, x_range=t_range, y_range=self.ranges[column],
+                             **extra)
             for name in RUNS:
                 fig.line("t", column, source=self.sources[name], legend_label=RUN_LABELS[name], **RUN_STYLES[name])
             style_legend(fig)
@@ -112,8 +154,13 @@ class SeriesView(Viewer):
         def change():
             for name in RUNS:
                 self.sources[name].data = data["runs"][name]
+            for column, limits in data["limits"].items():
+                if limits is not None:
+                    self.ranges[column].update(start=limits[0], end=limits[1], reset_start=limits[0],
+                                               reset_end=limits[1])
             for fig in self.figures.values():
                 fig.xaxis.axis_label = f"t ({data['time_unit']})"
             self.figures["energy"].yaxis.axis_label = f"W ({data['energy_unit']})"
+            self.figures["gamma"].yaxis.axis_label = data["gamma_label"]
 
         apply_to_models(change)

@@ -69,8 +69,15 @@ RUN_ENTRIES = {
               "steps per fastest initial time scale (gyration or field period)"),
         Entry("save_every", "integer", "dimensionless", "save every", "keep every n-th step"),
         Entry("max_steps", "integer", "dimensionless", "max steps", "refuse plans longer than this"),
+        Entry("adaptive", "boolean", "dimensionless", "adaptive step",
+              "let the step follow the local time scale as it changes"),
+        Entry("dt_min", "scalar", "time", "smallest dt", "lower bound of the adaptive step"),
+        Entry("dt_max", "scalar", "time", "largest dt", "upper bound of the adaptive step"),
     )
 }
+
+#: [run] inputs shown only with adaptive = true
+ADAPTIVE_ONLY = ("dt_min", "dt_max")
 
 #: how the time step may be given
 STEP_MODES = {"steps_per_period": "steps per fastest period", "dt": "fixed time step dt"}
@@ -106,6 +113,11 @@ def momentum_keys():
 def scalar_momentum_keys():
     """Momentum keys that also need a direction."""
     return tuple(schema.SCALAR_MOMENTUM_KEYS)
+
+
+def run_keys():
+    """Every [run] key the Scenario accepts (read from the engine)."""
+    return tuple(schema.RUN_KEYS)
 
 
 def run_default(name):

@@ -136,7 +136,7 @@ class LabState(param.Parameterized):
                 return None
         return node
 
-    def set_value(self, path, raw):
+    def set_value(self, path, raw, relayout=False):
         """Set (or, for ``raw=None``, remove) one raw value and re-validate.
 
         Parameters
@@ -145,6 +145,8 @@ class LabState(param.Parameterized):
             ``('title',)``, ``('run', 'duration')``, ``('particle', 'position')`` or
             ``('field', i, 'B0')``.
         raw : number, str, list or None
+        relayout : bool
+            True when the value changes which inputs are shown (forms rebuild).
         """
         draft = copy.deepcopy(self.draft)
         node = draft
@@ -158,7 +160,7 @@ class LabState(param.Parameterized):
             node.pop(last, None)
         else:
             node[last] = raw
-        self._set_draft(draft)
+        self._set_draft(draft, relayout=relayout)
 
     def set_species(self, name):
         """Switch the species; inputs that only belong to another species are dropped."""

@@ -240,3 +240,27 @@ def test_every_bundled_scenario_previews_runs_and_draws(name):
     assert len(series["t"]) == len(series["gamma"]) > 1
     assert lab.tabs.active == 1  # the results tab opens after a run
     assert "Scenario.fields_at" in preview.object  # the preview redrew around the orbit
+
+
+def test_adaptive_step_inputs_appear_with_the_switch(ring):
+    editor = RunEditor(ring)
+    keys = [r.key for r in editor.rows]
+    assert "run.adaptive" in keys and "run.dt_min" not in keys
+    next(r for r in editor.rows if r.key == "run.adaptive").boxes[0].value = True
+    assert ring.draft["run"]["adaptive"] is True
+    rows = {r.key: r for r in editor.rows}
+    rows["run.dt_min"].boxes[0].value = "1 ps"
+    assert ring.scenario.run.dt_min == pytest.approx(1e-12)
+    assert "adaptive dt range" in editor._plan.object
+    rows["run.adaptive"].boxes[0].value = False  # dt_min now contradicts the switch
+    assert ring.error_key == "run.dt_min"
+    assert any(r.key == "run.dt_min" and r._error.visible for r in editor.rows)
+
+
+def test_every_run_key_of_the_engine_has_an_input(ring):
+    from tracker.scenario import RUN_KEYS
+
+    ring.set_value(("run", "adaptive"), True, relayout=True)
+    keys = {r.key for r in RunEditor(ring).rows}
+    step_keys = {"run.dt", "run.steps_per_period"}
+    assert {f"run.{k}" for k in RUN_KEYS} - step_keys <= keys

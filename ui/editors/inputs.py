@@ -83,7 +83,7 @@ class EntryRow(Viewer):
     path : tuple
         Draft path, e.g. ``('field', 0, 'B')``.
     label : str
-    kind : {'scalar', 'integer', 'vector', 'choice'}
+    kind : {'scalar', 'integer', 'vector', 'choice', 'boolean'}
     unit : str
         SI unit label ('' for a plain number).
     dimension : str
@@ -108,7 +108,12 @@ class EntryRow(Viewer):
         self._label = html_pane(
             f'<span class="ro-label" title="{html.escape(tip)}">{html.escape(label)}</span>',
             width=LABEL_WIDTH, margin=(8, 4, 0, 8))
-        if kind == "choice":
+        if kind == "boolean":
+            box = pn.widgets.Checkbox(value=bool(value if value is not None else default), margin=(8, 4),
+                                      css_classes=[f"in-{name}"])
+            box.param.watch(self._flag_changed, "value")
+            self._boxes = [box]
+        elif kind == "choice":
             options = list(choices)
             current = value if value in options else (default if default in options else options[0])
             box = pn.widgets.Select(options=options, value=current, width=CHOICE_WIDTH, margin=(2, 4),
@@ -153,6 +158,10 @@ class EntryRow(Viewer):
     def _vector_changed(self, _event):
         self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
 
+    def _flag_changed(self, event):
+        # off is the default: leave the key out rather than write false
+        self.state.set_value(self.path, True if event.new else None, relayout=True)
+
     def _choice_changed(self, event):
         self.state.set_value(self.path, event.new)
 
@@ -167,5 +176,7 @@ class EntryRow(Viewer):
         self._error.visible = mine
         for i, box in enumerate(self._boxes):
             bad = mine and (self.kind != "vector" or error_key in (self.key, f"{self.key}[{i}]"))
+            if self.kind == "boolean":
+                continue
             classes = [c for c in box.css_classes if c != "ro-bad"]
             box.css_classes = classes + (["ro-bad"] if bad else [])

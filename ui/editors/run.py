@@ -41,6 +41,10 @@ def plan_html(plan, error=""):
         ("fastest time scale", period),
         ("resolution", f"{number_text(plan.steps_per_period, 4)} steps per period" if plan.steps_per_period else "–"),
     ]
+    if getattr(plan, "adaptive", False):
+        rows[1] = ("steps (at the initial dt)", rows[1][1])
+        rows.insert(1, ("adaptive dt range", f"{quantity_text(plan.dt_min, TIME_UNITS, 4)} … "
+                                             f"{quantity_text(plan.dt_max, TIME_UNITS, 4)}"))
     body = "".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in rows)
     return f'<table class="ro-plan" id="plan-readout">{body}</table>'
 
@@ -95,6 +99,17 @@ class RunEditor(Viewer):
             run_row(state, "save_every", schema.run_default("save_every")),
             run_row(state, "max_steps", schema.run_default("max_steps")),
         ]
+        adaptive = bool(state.value(("run", "adaptive")))
+        shown = {"duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps"}
+        for key in schema.run_keys():
+            if key in shown or (key in schema.ADAPTIVE_ONLY and not adaptive and state.value(("run", key)) is None):
+                continue
+            if key in schema.RUN_ENTRIES:
+                self.rows.append(run_row(state, key, schema.run_default(key)))
+            else:
+                # a [run] key this editor does not know yet: a plain box, values as in a file
+                self.rows.append(EntryRow(state, ("run", key), key, "scalar", doc="see the scenario schema",
+                                          default=schema.run_default(key)))
         for row in self.rows:
             self.board.add(row)
         reference = schema.pusher_reference(state.value(("run", "pusher")) or schema.run_default("pusher"))

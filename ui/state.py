@@ -136,6 +136,16 @@ class LabState(param.Parameterized):
                 return None
         return node
 
+    def table(self, name):
+        """A top-level table of the draft as a dict ({} when absent or malformed)."""
+        value = self.draft.get(name)
+        return value if isinstance(value, dict) else {}
+
+    def fields(self):
+        """The draft's field list ([] when absent or malformed)."""
+        value = self.draft.get("field")
+        return value if isinstance(value, list) else []
+
     def set_value(self, path, raw, relayout=False):
         """Set (or, for ``raw=None``, remove) one raw value and re-validate.
 
@@ -154,7 +164,9 @@ class LabState(param.Parameterized):
             if isinstance(part, int):
                 node = node[part]
             else:
-                node = node.setdefault(part, {})
+                if not isinstance(node.get(part), (dict, list)):
+                    node[part] = {}  # a malformed table from a file is replaced by the edit
+                node = node[part]
         last = path[-1]
         if raw is None:
             node.pop(last, None)
@@ -165,7 +177,7 @@ class LabState(param.Parameterized):
     def set_species(self, name):
         """Switch the species; inputs that only belong to another species are dropped."""
         draft = copy.deepcopy(self.draft)
-        particle = draft.setdefault("particle", {})
+        particle = draft["particle"] = dict(self.table("particle"))
         particle["species"] = name
         for other, keys in schema.SPECIES_EXTRAS.items():
             if other != name:
@@ -175,7 +187,7 @@ class LabState(param.Parameterized):
 
     def momentum_kind(self):
         """Which momentum key the draft uses (the first given, or the engine's first)."""
-        particle = self.draft.get("particle", {})
+        particle = self.table("particle")
         for key in schema.momentum_keys():
             if key in particle:
                 return key
@@ -183,10 +195,10 @@ class LabState(param.Parameterized):
 
     def set_momentum_kind(self, kind):
         """Give the momentum another way; the old value is dropped (no conversion in the UI)."""
-        if kind == self.momentum_kind() and kind in self.draft.get("particle", {}):
+        if kind == self.momentum_kind() and kind in self.table("particle"):
             return
         draft = copy.deepcopy(self.draft)
-        particle = draft.setdefault("particle", {})
+        particle = draft["particle"] = dict(self.table("particle"))
         for key in schema.momentum_keys():
             particle.pop(key, None)
         if kind not in schema.scalar_momentum_keys():
@@ -197,7 +209,7 @@ class LabState(param.Parameterized):
 
     def step_mode(self):
         """'dt' when the draft gives a fixed step, else 'steps_per_period'."""
-        run = self.draft.get("run", {})
+        run = self.table("run")
         if "dt" in run:
             return "dt"
         if "steps_per_period" in run:
@@ -209,7 +221,7 @@ class LabState(param.Parameterized):
         if mode == self.step_mode():
             return
         draft = copy.deepcopy(self.draft)
-        run = draft.setdefault("run", {})
+        run = draft["run"] = dict(self.table("run"))
         run.pop("dt" if mode == "steps_per_period" else "steps_per_period", None)
         self._pending_step_mode = mode
         self._set_draft(draft, relayout=True)
@@ -219,7 +231,7 @@ class LabState(param.Parameterized):
         if type_name not in FIELD_MODELS:
             raise KeyError(type_name)
         draft = copy.deepcopy(self.draft)
-        draft.setdefault("field", []).append({"type": type_name})
+        draft["field"] = [*self.fields(), {"type": type_name}]
         self._set_draft(draft, relayout=True)
 
     def remove_field(self, index):
@@ -231,7 +243,7 @@ class LabState(param.Parameterized):
     def move_field(self, index, offset):
         """Move field component ``index`` by ``offset`` places (clamped to the list)."""
         draft = copy.deepcopy(self.draft)
-        fields = draft.get("field", [])
+        fields = draft["field"] = list(self.fields())
         target = max(0, min(len(fields) - 1, index + offset))
         if target == index:
             return

@@ -238,3 +238,18 @@ def test_sessions_do_not_share_state():
     a.set_value(("field", 0, "B"), ["0 T", "0 T", "2 T"])
     assert b.draft["field"][0]["type"] == "mirror"
     assert raw(RING)["field"][0]["B"] != a.draft["field"][0]["B"]  # the file itself is untouched
+
+
+def test_malformed_tables_from_a_file_do_not_break_the_forms():
+    from ui.editors.fields import FieldComposer
+    from ui.editors.particle import ParticleEditor
+    from ui.editors.run import RunEditor
+
+    s = LabState()
+    assert s.load_toml('particle = 5\nfield = "x"\n[run]\nduration = "1 ns"\nfoo = 1\n', "odd.toml")
+    assert s.scenario is None and s.error.startswith(s.error_key)
+    FieldComposer(s), ParticleEditor(s), RunEditor(s)  # build without raising
+    s.set_value(("particle", "species"), "electron")
+    assert s.draft["particle"] == {"species": "electron"}
+    s.add_field("uniform")
+    assert s.draft["field"] == [{"type": "uniform"}]

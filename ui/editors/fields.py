@@ -67,7 +67,7 @@ class FieldComposer(Viewer):
         self.board.reset()
         self.rows = []
         self._type.options = model_options()
-        fields = self.state.draft.get("field", [])
+        fields = self.state.fields()
         cards = []
         for index, raw in enumerate(fields):
             cards.append(self._card(index, raw, len(fields)))

@@ -55,7 +55,7 @@ class ParticleEditor(Viewer):
     def _rebuild(self, *_):
         state = self.state
         self.board.reset()
-        particle = state.draft.get("particle", {})
+        particle = state.table("particle")
         species = particle.get("species", "custom" if ("mass" in particle or "charge" in particle) else None)
         names = schema.species_names()
         species_select = pn.widgets.Select(options=list(names), value=species if species in names else names[0],

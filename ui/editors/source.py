@@ -92,7 +92,8 @@ class ScenarioSource(Viewer):
         state = self.state
         self.download.disabled = state.scenario is None
         if state.source_error:
-            text = f'<div class="ro-error" id="source-error" style="color:#b3261e">{html.escape(state.source_error)}</div>'
+            text = (f'<div class="ro-error" id="source-error" style="color:#b3261e">'
+                    f"{html.escape(state.source_error)}</div>")
         else:
             text = (f'<div class="ro-note" id="source-name" data-loads="{state.loads}">'
                     f'editing: {html.escape(state.source or "new scenario")}</div>')

@@ -312,7 +312,8 @@ class FieldPreview(Viewer):
         try:
             centre, half = self._window()
         except ScenarioError as exc:
-            self.message.object = f'<div class="ro-error" id="preview-message" style="color:#b3261e">{html.escape(str(exc))}</div>'
+            self.message.object = (f'<div class="ro-error" id="preview-message" style="color:#b3261e">'
+                                   f"{html.escape(str(exc))}</div>")
             return
         t = self.time.value * self._time_scale
         plane = self.plane.value

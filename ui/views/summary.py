@@ -3,7 +3,6 @@
 import html
 import math
 
-import panel as pn
 from panel.viewable import Viewer
 
 from ..format import TIME_UNITS, energy_text, number_text, quantity_text
@@ -82,7 +81,8 @@ def warnings_html(results):
                          f"{html.escape(str(w.get('message', '')))}</li>")
     if not items:
         return ""
-    return f'<div class="ro-warnings-title"><b>Engine warnings</b></div><ul class="ro-warnings" id="warnings">{"".join(items)}</ul>'
+    return ('<div class="ro-warnings-title"><b>Engine warnings</b></div>'
+            f'<ul class="ro-warnings" id="warnings">{"".join(items)}</ul>')
 
 
 class SummaryView(Viewer):

@@ -164,6 +164,10 @@ def create_app(initial_scenario_path=None):
     elif spectrum_message:
         tabs.append((TAB_SPECTRUM, html_pane(f'<div class="ro-note">{html.escape(spectrum_message)}</div>')))
 
+    if pn.state.curdoc is not None:
+        # a closed tab stops its run at the next chunk instead of computing for nobody
+        pn.state.on_session_destroyed(lambda _context: state.cancel_run())
+
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)
     return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum)

@@ -230,3 +230,4 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
         except subprocess.TimeoutExpired:
             proc.kill()
         log.close()
+

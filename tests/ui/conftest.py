@@ -11,6 +11,7 @@ from lab_helpers import ARTIFACTS, CHROMIUM, CHROMIUM_ARGS, SKIP_HINT, free_port
 
 os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
 
+
 def chromium_available():
     return os.path.exists(CHROMIUM)
 

@@ -189,15 +189,18 @@ def main(argv=None):
     except ScenarioError as exc:
         print(f"radorbit: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
-        print("radorbit: interrupted", file=sys.stderr)
-        return 130
     except BrokenPipeError:
         # output piped into `head` and closed early: not an error of ours
         import os
 
         os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 0
+    except OSError as exc:
+        print(f"radorbit: error: {exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("radorbit: interrupted", file=sys.stderr)
+        return 130
 
 
 if __name__ == "__main__":

@@ -5,8 +5,9 @@
 - Dipole: B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (Jackson sec. 5.6, from memory), and on a
   planet |B| = B_eq (R/r)^3 sqrt(1 + 3 sin^2 lat) (Walt, Introduction to Geomagnetically
   Trapped Radiation, ch. 4, from memory).
-- Plane wave: B = n x E/c, E normal to n, peak E0 = a0 m_e c w/e (Jackson sec. 7.1).
-- Undulator: K = e B0 lambda_u/(2 pi m c) = 0.934 B0[T] lambda_u[cm] (X-ray Data Booklet sec. 2.1).
+- Plane wave: B = n x E/c, E normal to n, peak E0 = a0 m_e c w/e (Jackson sec. 7.1, from memory).
+- Undulator: K = e B0 lambda_u/(2 pi m c) = 0.934 B0[T] lambda_u[cm] (X-ray Data Booklet sec. 2.1;
+  section number from memory).
 """
 
 import math
@@ -135,7 +136,7 @@ def test_tokamak_safety_factor_and_loop_field():
     minor = 0.01
     e, b = s.fields_at([[r0 + minor, 0.0, 0.0]], 0.0)
     b_tor, b_pol = abs(b[0, 1]), abs(b[0, 2])
-    # q = r B_tor/(R0 B_pol) on a circular large-aspect-ratio surface (Wesson, Tokamaks, ch. 3)
+    # q = r B_tor/(R0 B_pol) on a circular large-aspect-ratio surface (J. Wesson, Tokamaks, ch. 3; chapter from memory)
     assert minor * b_tor / ((r0 + minor) * b_pol) == pytest.approx(q * r0 / (r0 + minor), rel=1e-12)
     assert b_tor == pytest.approx(b0 * r0 / (r0 + minor), rel=1e-12)
     assert np.linalg.norm(e[0]) == pytest.approx(3.0 / (2 * math.pi * (r0 + minor)), rel=1e-12)

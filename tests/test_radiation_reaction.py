@@ -7,7 +7,8 @@ Sources
 - Plane wave: A. Di Piazza, Lett. Math. Phys. 83, 305 (2008), exact light-front solution:
   eta = gamma - n.u falls as eta0/h, h = 1 + eps eta0 int a'^2 dphi, eps = tau0 omega0.
 - Energy loss per turn U0 = C_gamma E^4/rho, C_gamma = 4 pi r_e/(3 (m c^2)^3) = 8.846e-5 m/GeV^3
-  (M. Sands, The Physics of Electron Storage Rings, SLAC-121 (1970), ch. 4; X-ray Data Booklet sec. 2.1).
+  (M. Sands, The Physics of Electron Storage Rings, SLAC-121 (1970), ch. 4; X-ray Data Booklet sec. 2.1;
+  chapter and section numbers from memory).
 """
 
 import math

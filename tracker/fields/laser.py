@@ -23,7 +23,7 @@ def plane_wave_field(p, i, x, y, z, t):
     """Plane-wave pulse from the normalised vector potential a(s), s = t - n.(r - r_peak)/c.
 
     a(s) = a0 g(s) [e1 cos(w s + phase) + h e2 sin(w s + phase)],  h = 0 linear, 1 circular
-    E = -(m_e c/e) da/ds,  B = n x E / c   (Jackson sec. 7.1; a0 = e E0/(m_e c w)).
+    E = -(m_e c/e) da/ds,  B = n x E / c   (Jackson sec. 7.1, from memory; a0 = e E0/(m_e c w)).
     Defining the envelope on the potential keeps the pulse free of a DC part.
     p = [A (= a0 m_e c/e, V s/m), w, nx, ny, nz, e1(3), h*e2(3), envelope, width, n.r_peak, phase].
     """

@@ -23,7 +23,7 @@ def uniform_field(p, i, x, y, z, t):
 def mirror_field(p, i, x, y, z, t):
     """Paraxial mirror, axis z: Bz = B0 (1 + z^2/L^2), Br = -B0 r z/L^2 (div B = 0).
 
-    Chen, Introduction to Plasma Physics, sec. 2.3 (magnetic mirror); the radial
+    Chen, Introduction to Plasma Physics, sec. 2.3 (magnetic mirror; section from memory); the radial
     component follows from div B = 0 to first order in r/L.
     p = [B0, L, cx, cy, cz].
     """
@@ -37,7 +37,7 @@ def mirror_field(p, i, x, y, z, t):
 
 @njit(**LEAF)
 def dipole_field(p, i, x, y, z, t):
-    """Point magnetic dipole B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (Jackson sec. 5.6).
+    """Point magnetic dipole B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (Jackson sec. 5.6, from memory).
 
     p = [mu0/(4 pi) Mx, My, Mz, cx, cy, cz]; infinite at the centre (caught as non-finite).
     """

@@ -12,7 +12,7 @@ TOKAMAK = 6
 
 @njit(**LEAF)
 def tokamak_field(p, i, x, y, z, t):
-    """Axisymmetric tokamak field about the z axis (Wesson, Tokamaks, ch. 3, large aspect ratio).
+    """Axisymmetric tokamak field about the z axis (J. Wesson, Tokamaks, ch. 3, large aspect ratio; chapter from memory).
 
     B_phi = B0 R0/R; poloidal field from the flux psi = B0 r^2/(2 q), r^2 = (R - R0)^2 + z^2:
     B_R = -(1/R) dpsi/dz, B_z = (1/R) dpsi/dR, exactly divergence-free, so the field-line

@@ -13,7 +13,7 @@ UNDULATOR = 4
 
 @njit(**LEAF)
 def undulator_field(p, i, x, y, z, t):
-    """Planar undulator, axis z, field along y (Wiedemann, Particle Accelerator Physics, ch. on insertion devices).
+    """Planar undulator, axis z, field along y (H. Wiedemann, Particle Accelerator Physics, chapter on insertion devices; from memory).
 
     Inside start <= z <= start + length (s = z - start, k = 2 pi/period):
         By = h B0 cosh(k y) sin(k s),  Bz = h B0 sinh(k y) cos(k s)

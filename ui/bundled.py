@@ -1,10 +1,22 @@
 """The scenario files shipped with radorbit (``scenarios/`` beside the packages)."""
 
+import sys
 import tomllib
 from pathlib import Path
 
+
+def _scenario_dir():
+    """The repository's scenarios/ (editable install) or the copy a wheel installs under share/."""
+    candidates = (Path(__file__).resolve().parent.parent / "scenarios",
+                  Path(sys.prefix) / "share" / "radorbit" / "scenarios")
+    for folder in candidates:
+        if folder.is_dir():
+            return folder
+    return candidates[0]
+
+
 #: folder of the bundled scenarios
-SCENARIO_DIR = Path(__file__).resolve().parent.parent / "scenarios"
+SCENARIO_DIR = _scenario_dir()
 
 #: opened when the lab starts without a scenario: short, and the loss is large enough to see
 DEFAULT_SCENARIO = "laser_headon_gev.toml"

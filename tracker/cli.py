@@ -7,6 +7,7 @@ from pathlib import Path
 from .errors import ScenarioError
 
 EXIT_BAD_INPUT = 2
+EXIT_CANCELLED = 130  #: as a shell reports Ctrl-C; the partial result was still printed and written
 
 
 def _fmt_energy(joules):
@@ -72,6 +73,57 @@ def _progress_bar(total_label):
     return bar, update
 
 
+class _InterruptToCancel:
+    """First Ctrl-C asks the run to stop after the current chunk (partial result kept and
+    marked); a second one interrupts at once."""
+
+    def __init__(self):
+        import threading
+
+        self.event = threading.Event()
+
+    def __enter__(self):
+        import signal
+        import threading
+
+        self._previous = None
+        if threading.current_thread() is threading.main_thread():
+            self._previous = signal.signal(signal.SIGINT, self._handle)
+        return self.event
+
+    def _handle(self, signum, frame):
+        import signal
+
+        print("\nradorbit: stopping after the current chunk (Ctrl-C again to abort)", file=sys.stderr)
+        self.event.set()
+        signal.signal(signal.SIGINT, signal.default_int_handler)
+
+    def __exit__(self, *exc):
+        import signal
+
+        if self._previous is not None:
+            signal.signal(signal.SIGINT, self._previous)
+        return False
+
+
+def _write(result, path):
+    """Write a Result (.csv or .h5) atomically; if that fails, keep it in the temp folder instead."""
+    import os
+    import tempfile
+
+    writer = result.to_csv if path.suffix.lower() == ".csv" else result.to_hdf5
+    try:
+        writer(path)
+        print(f"wrote {path}")
+        return True
+    except OSError as exc:
+        rescue = Path(tempfile.gettempdir()) / f"radorbit-{os.getpid()}-{path.name}"
+        writer(rescue)
+        print(f"radorbit: error: cannot write {path} ({exc.strerror}); the result is kept in {rescue}",
+              file=sys.stderr)
+        return False
+
+
 def cmd_run(args):
     from . import compare, load_scenario, track
 
@@ -79,11 +131,12 @@ def cmd_run(args):
     plan = scenario.plan()
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
-        if args.compare:
-            pair = compare(scenario, progress=update)
-            results = {"damped": pair.damped, "undamped": pair.undamped}
-        else:
-            results = {scenario.run.radiation_reaction: track(scenario, progress=update)}
+        with _InterruptToCancel() as cancel:
+            if args.compare:
+                pair = compare(scenario, progress=update, cancel=cancel)
+                results = {"damped": pair.damped, "undamped": pair.undamped}
+            else:
+                results = {scenario.run.radiation_reaction: track(scenario, progress=update, cancel=cancel)}
     finally:
         bar.close()
     names = list(results)
@@ -94,16 +147,15 @@ def cmd_run(args):
     for name, r in results.items():
         for w in r.warnings:
             print(f"warning ({name}, {w['kind']}, t = {w['time']:.4g} s): {w['message']}")
+    ok = True
     if args.output:
         out = Path(args.output)
         for name, r in results.items():
             path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
-            if path.suffix.lower() == ".csv":
-                r.to_csv(path)
-            else:
-                r.to_hdf5(path)
-            print(f"wrote {path}")
-    return 0
+            ok = _write(r, path) and ok
+    if any(r.meta.get("stop_reason") == "cancelled" for r in results.values()):
+        return EXIT_CANCELLED
+    return 0 if ok else 1
 
 
 def cmd_check(args):

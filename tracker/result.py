@@ -75,14 +75,17 @@ class Result:
         return bool(self.meta.get("complete", False))
 
     def energy_balance_residual(self):
-        """[Delta KE - (field work - radiated)] / initial kinetic energy (dimensionless).
+        """[Delta KE - (field work - radiated)] relative to the largest energy in the balance.
 
-        Zero for an exact integration when radiation reaction is on; for an undamped
-        orbit the radiated energy is only what it *would* radiate, so the balance
-        is Delta KE = field work. See ``energy_balance_error`` for the value in J.
+        The scale is the largest of the initial kinetic energy, |Delta KE|, |field work| and
+        the radiated energy (a particle starting at rest has no kinetic energy to compare
+        with). Zero for an exact integration when radiation reaction is on; for an undamped
+        orbit the radiated energy is only what it *would* radiate, so the balance is
+        Delta KE = field work. See ``energy_balance_error`` for the value in J.
         """
-        ke0 = self.kinetic_energy[0]
-        return float(self.energy_balance_error() / ke0) if ke0 > 0 else float("nan")
+        ke = self.kinetic_energy
+        scale = max(abs(ke[0]), abs(ke[-1] - ke[0]), abs(self.field_work[-1]), abs(self.radiated_energy[-1]))
+        return float(self.energy_balance_error() / scale) if scale > 0 else 0.0
 
     def energy_balance_error(self):
         """Delta KE - (field work - radiated energy) in J at the last saved state."""

@@ -31,3 +31,15 @@ def test_unwritable_output_is_kept_in_the_temp_folder(tmp_path, monkeypatch, cap
     assert "cannot write" in err and "the result is kept in" in err
     rescued = err.split("the result is kept in ")[1].strip()
     assert load_result(rescued).complete
+
+
+def test_run_settings_can_be_overridden_on_the_command_line(tmp_path, capsys):
+    from tracker import load_result
+
+    out = tmp_path / "vay.h5"
+    assert main(["run", MIRROR, "--pusher", "vay", "--radiation-reaction", "landau-lifshitz-quantum",
+                 "-o", str(out)]) == 0
+    result = load_result(out)
+    assert result.scenario.run.pusher == "vay"
+    assert result.scenario.run.radiation_reaction == "landau-lifshitz-quantum"
+    assert "landau-lifshitz-quantum" in capsys.readouterr().out

@@ -2,8 +2,8 @@
 
 numba keys a cached kernel on its own source file only: when ``kernel.py`` is
 cached and ``fields/laser.py`` (whose evaluator it inlines) changes, the stale
-machine code would still be loaded. We hash every source file of the package
-once at import (~1 ms) and drop all cached kernels when the hash changes.
+machine code would still be loaded. We hash every source file that kernels are
+built from once at import (~1 ms) and drop all cached kernels when the hash changes.
 """
 
 import hashlib
@@ -13,10 +13,21 @@ PACKAGE = Path(__file__).resolve().parent
 STAMP = PACKAGE / "__pycache__" / "kernel-sources.sha256"
 
 
+#: the modules compiled kernels are made of (editing the CLI or the schema keeps the cache)
+KERNEL_SOURCES = ("config.py", "constants.py", "kernel.py", "fields", "pushers", "radiation")
+
+
+def kernel_source_files():
+    """The .py files whose code can end up inside a compiled kernel."""
+    for name in KERNEL_SOURCES:
+        path = PACKAGE / name
+        yield from (sorted(path.rglob("*.py")) if path.is_dir() else [path])
+
+
 def source_digest():
-    """sha256 over the package's .py files (path and content), hex string."""
+    """sha256 over the kernel source files (path and content), hex string."""
     h = hashlib.sha256()
-    for path in sorted(PACKAGE.rglob("*.py")):
+    for path in kernel_source_files():
         h.update(str(path.relative_to(PACKAGE)).encode())
         h.update(path.read_bytes())
     return h.hexdigest()

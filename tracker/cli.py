@@ -127,7 +127,7 @@ def _write(result, path):
 def cmd_run(args):
     from . import compare, load_scenario, track
 
-    scenario = load_scenario(args.scenario)
+    scenario = _with_overrides(load_scenario(args.scenario), args)
     plan = scenario.plan()
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
@@ -158,11 +158,23 @@ def cmd_run(args):
     return 0 if ok else 1
 
 
+def _with_overrides(scenario, args):
+    """The scenario with [run] entries given on the command line (--pusher, --radiation-reaction, --adaptive)."""
+    changes = {}
+    if getattr(args, "pusher", None):
+        changes["pusher"] = args.pusher
+    if getattr(args, "radiation_reaction", None):
+        changes["radiation_reaction"] = args.radiation_reaction
+    if getattr(args, "adaptive", False):
+        changes["adaptive"] = True
+    return scenario.with_run(**changes) if changes else scenario
+
+
 def cmd_check(args):
     from . import load_scenario
     from .plan import human_bytes
 
-    scenario = load_scenario(args.scenario)
+    scenario = _with_overrides(load_scenario(args.scenario), args)
     plan = scenario.plan()
     p = scenario.particle
     rows = [
@@ -204,14 +216,24 @@ def build_parser():
     parser = argparse.ArgumentParser(prog="radorbit", description="Charged-particle orbits with radiation reaction.")
     sub = parser.add_subparsers(dest="command", required=True)
 
+    from .pushers import PUSHERS
+    from .radiation.reaction import MODELS
+
+    def add_run_overrides(p):
+        p.add_argument("--pusher", choices=tuple(PUSHERS), help="override run.pusher")
+        p.add_argument("--radiation-reaction", choices=tuple(MODELS), help="override run.radiation_reaction")
+        p.add_argument("--adaptive", action="store_true", help="set run.adaptive = true")
+
     run = sub.add_parser("run", help="track a scenario and print a summary")
     run.add_argument("scenario", help="scenario TOML file")
     run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
     run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    add_run_overrides(run)
     run.set_defaults(func=cmd_run)
 
     check = sub.add_parser("check", help="validate a scenario and print its plan")
     check.add_argument("scenario", help="scenario TOML file")
+    add_run_overrides(check)
     check.set_defaults(func=cmd_check)
 
     lab = sub.add_parser("lab", help="open the browser lab")

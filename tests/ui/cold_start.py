@@ -27,7 +27,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from lab_helpers import CHROMIUM, CHROMIUM_ARGS, ROOT, free_port, wait_for_http  # noqa: E402
+from lab_helpers import CHROMIUM, CHROMIUM_ARGS, ROOT, free_port, stop_server, wait_for_http  # noqa: E402
 
 PREVIEW_DRAWN = ("() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
                  " if (m.data && m.data.image && m.data.image.length) return true; return false; }")
@@ -57,11 +57,7 @@ def one_start(browser, cache_dir):
             first_run = time.perf_counter() - start
             page.close()
         finally:
-            proc.terminate()
-            try:
-                proc.wait(10)
-            except subprocess.TimeoutExpired:
-                proc.kill()
+            stop_server(proc)
     return http, interactive, first_run
 
 

@@ -1,6 +1,7 @@
 """Helpers shared by the lab tests and the cold-start measurement (no fixtures here)."""
 
 import socket
+import subprocess
 import time
 import urllib.request
 from pathlib import Path
@@ -34,3 +35,12 @@ def wait_for_http(url, timeout=60.0, process=None):
             pass
         time.sleep(0.1)
     raise TimeoutError(f"{url} did not answer within {timeout} s")
+
+
+def stop_server(process, timeout=10.0):
+    """Terminate a served lab; kill it if it has not exited after ``timeout`` s."""
+    process.terminate()
+    try:
+        process.wait(timeout)
+    except subprocess.TimeoutExpired:
+        process.kill()

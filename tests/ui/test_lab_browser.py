@@ -13,7 +13,7 @@ from tracker import Scenario, constants
 from ui.bundled import bundled_path, bundled_scenarios
 from ui.format import ENERGY_DIGITS, ENERGY_UNITS, energy_text
 
-from lab_helpers import ROOT, free_port, wait_for_http
+from lab_helpers import ROOT, free_port, stop_server, wait_for_http
 
 pytestmark = pytest.mark.browser
 
@@ -224,10 +224,6 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
         expect(page.locator("#scenario-title")).to_have_text(bundled_scenarios()[RING])
         expect(page.locator("#caution")).to_contain_text("not for radiation-safety or shielding decisions")
     finally:
-        proc.terminate()
-        try:
-            proc.wait(10)
-        except subprocess.TimeoutExpired:
-            proc.kill()
+        stop_server(proc)
         log.close()
 

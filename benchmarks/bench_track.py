@@ -50,7 +50,7 @@ def python_loop(steps, dt):
     """The engine's step in plain Python (uniform B along z, E = 0, LL terms 2 and 3)."""
     qm = Q / M
     ux, uy, uz = math.sqrt(GAMMA0**2 - 1), 0.0, 0.0
-    x = y = z = 0.0
+    x = y = 0.0
     radiated = 0.0
     p_prev = 0.0
     b = B_FIELD

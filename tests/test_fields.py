@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 from scipy import constants as sc
 
-from builders import electron, scenario
+from builders import scenario
 from tracker import track
 
 H = 1e-6

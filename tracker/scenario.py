@@ -14,7 +14,7 @@ Numbers are SI; strings carry units ("1.5 T", "0.8 um", "30 fs", "2 GeV").
 import dataclasses
 import math
 import tomllib
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import cached_property
 from pathlib import Path
 

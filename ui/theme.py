@@ -20,13 +20,13 @@ TEXT_CSS = f"""
               font-weight: 700; margin: 4px 0 0 0; }}
 """
 
-HEADER_CSS = f"""
-.ro-header {{ display: flex; align-items: baseline; gap: 18px; padding: 10px 18px 8px 18px;
-             background: linear-gradient(90deg, #15324a, #1d5f8a); color: white; border-radius: 6px; }}
-.ro-brand {{ font-size: 22px; font-weight: 700; letter-spacing: .02em; }}
-.ro-brand small {{ font-weight: 400; opacity: .8; margin-left: 6px; font-size: 15px; }}
-.ro-title {{ font-size: 15px; opacity: .95; }}
-.ro-caution {{ margin-left: auto; font-size: 12px; opacity: .85; max-width: 520px; text-align: right; }}
+HEADER_CSS = """
+.ro-header { display: flex; align-items: baseline; gap: 18px; padding: 10px 18px 8px 18px;
+             background: linear-gradient(90deg, #15324a, #1d5f8a); color: white; border-radius: 6px; }
+.ro-brand { font-size: 22px; font-weight: 700; letter-spacing: .02em; }
+.ro-brand small { font-weight: 400; opacity: .8; margin-left: 6px; font-size: 15px; }
+.ro-title { font-size: 15px; opacity: .95; }
+.ro-caution { margin-left: auto; font-size: 12px; opacity: .85; max-width: 520px; text-align: right; }
 """
 
 CARD_STYLE = dict(header_background="#e6ecf2", styles={"background": "white"}, collapsible=False,

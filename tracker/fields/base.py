@@ -4,7 +4,7 @@ A field model is data plus one numba evaluator (see ``tracker.fields`` for the r
 """
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 from ..errors import ScenarioError
 from ..units import SI_UNITS, parse_scalar, parse_vector

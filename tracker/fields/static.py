@@ -6,7 +6,7 @@ from numba import njit
 
 from ..config import LEAF
 from ..constants import mu_0
-from .base import ABSENT, FieldModel, Param
+from .base import FieldModel, Param
 
 UNIFORM = 1
 MIRROR = 2

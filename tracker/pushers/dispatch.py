@@ -3,7 +3,6 @@
 from numba import njit
 
 from ..config import LEAF
-from .boris import CODE as BORIS
 from .boris import boris_push
 from .higuera_cary import CODE as HIGUERA_CARY
 from .higuera_cary import higuera_cary_push

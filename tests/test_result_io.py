@@ -9,6 +9,7 @@ import pytest
 from builders import electron, scenario
 from tracker import load_result, track
 from tracker.result import ARRAYS
+from tracker.stops import StopReason
 
 
 @pytest.fixture(scope="module")
@@ -81,7 +82,7 @@ def test_non_finite_values_stop_the_run_and_keep_the_last_good_state():
              "peak_position": [0, 0, -10e-6]}
     result = track(scenario([pulse], duration=100e-15, particle=electron(gamma=2.0, direction=[0, 0, -1]),
                             steps_per_period=50))
-    assert result.meta["stop_reason"].startswith("non-finite")
+    assert result.meta["stop_reason"] == StopReason.NONFINITE
     assert 0 < result.t[-1] < 100e-15
     assert result.complete is False
     assert np.all(np.isfinite(result.x)) and np.all(np.isfinite(result.u))

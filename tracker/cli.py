@@ -5,6 +5,7 @@ import sys
 from pathlib import Path
 
 from .errors import ScenarioError
+from .stops import StopReason
 
 EXIT_BAD_INPUT = 2
 EXIT_CANCELLED = 130  #: as a shell reports Ctrl-C; the partial result was still printed and written
@@ -153,7 +154,7 @@ def cmd_run(args):
         for name, r in results.items():
             path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
             ok = _write(r, path) and ok
-    if any(r.meta.get("stop_reason") == "cancelled" for r in results.values()):
+    if any(r.meta.get("stop_reason") == StopReason.CANCELLED for r in results.values()):
         return EXIT_CANCELLED
     return 0 if ok else 1
 

@@ -19,11 +19,12 @@ from .radiation.quantum import gaunt_factor
 from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, ll_kick
 from .radiation.reaction import MODELS as RR_MODELS
 from .result import Result
+from .stops import StopReason
 
-STOP_COMPLETED = "completed"
-STOP_CANCELLED = "cancelled"
-STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
-STOP_MAX_STEPS = "max_steps reached before the end of the run"
+STOP_COMPLETED = StopReason.COMPLETED
+STOP_CANCELLED = StopReason.CANCELLED
+STOP_NONFINITE = StopReason.NONFINITE
+STOP_MAX_STEPS = StopReason.MAX_STEPS
 
 
 @dataclass

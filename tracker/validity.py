@@ -45,6 +45,7 @@ from numba import njit
 from . import constants as k
 from .config import KERNEL
 from .fields.evaluate import field_at
+from .stops import StopReason
 
 #: largest accepted gyration-phase error per period. The Boris rotation turns by
 #: 2 arctan(theta/2) instead of theta = omega dt, a relative frequency error of
@@ -214,8 +215,7 @@ def _finite_states(result):
 
 def check_nonfinite(result):
     """'nonfinite' when the engine stopped on NaN or Inf (``meta["stop_reason"]``)."""
-    reason = str(result.meta.get("stop_reason", ""))
-    if "non-finite" not in reason:
+    if StopReason.of(result.meta.get("stop_reason")) is not StopReason.NONFINITE:
         return []
     t_last = float(result.t[-1]) if len(result.t) else 0.0
     return [warning(

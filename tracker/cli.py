@@ -204,7 +204,8 @@ def cmd_check(args):
 def cmd_lab(args):
     from ui.app import serve
 
-    return serve(args.scenario, port=args.port, address=args.address, show=args.show) or 0
+    return serve(args.scenario, port=args.port, address=args.address, show=args.show,
+                 allow_hosts=args.allow_host) or 0
 
 
 def cmd_spectrum(args):
@@ -241,6 +242,8 @@ def build_parser():
     lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")
     lab.add_argument("--port", type=int, default=5006, help="port (default 5006)")
     lab.add_argument("--address", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
+    lab.add_argument("--allow-host", action="append", default=[], metavar="NAME",
+                     help="also answer to this host name (repeatable); loopback names and --address always")
     lab.add_argument("--show", action="store_true", help="open a browser tab")
     lab.set_defaults(func=cmd_lab)
 

@@ -1,15 +1,21 @@
-"""What the particle and run editors ask for: each input's kind, dimension and help.
+"""What the particle and run editors ask for: each input's kind, dimension, bounds and help.
 
 Field inputs need no table here: they come from ``tracker.fields.MODELS``. Choices
 (species, momentum keys, pushers, radiation-reaction models) are read from the
 engine's registries when a form is built, so new entries appear without UI edits.
+
+The [run] and [particle] entries below are the lab's stand-in for the engine's own
+parameter descriptors: when ``tracker.scenario`` publishes them, ``PARTICLE_ENTRIES``
+and ``RUN_ENTRIES`` are built from those (only the short labels stay here) and the
+editors, which read nothing else, need no change.
 """
 
 import dataclasses
 from dataclasses import dataclass
 
+from tracker import ScenarioError
 from tracker import scenario as schema
-from tracker.units import SI_UNITS
+from tracker.units import SI_UNITS, parse_scalar, parse_vector
 
 
 @dataclass(frozen=True)
@@ -25,10 +31,34 @@ class Entry:
     dimension: str
     label: str
     doc: str = ""
+    positive: bool = False
 
     @property
     def unit(self):
         return SI_UNITS[self.dimension]
+
+    def parse(self, raw, key):
+        """Check one value on its own (as ``tracker.fields.base.Param.parse`` does); SI value.
+
+        Raises
+        ------
+        ScenarioError
+            Naming ``key`` (or a component ``key[i]``) and the value.
+        """
+        if self.kind == "vector":
+            return parse_vector(raw, self.dimension, key)
+        if self.kind == "boolean":
+            if not isinstance(raw, bool):
+                raise ScenarioError(key, f"must be true or false, not {raw!r}.")
+            return raw
+        if self.kind == "integer":
+            if isinstance(raw, bool) or not isinstance(raw, (int, float)) or raw != int(raw) or raw < 1:
+                raise ScenarioError(key, f"must be a whole number >= 1, not {raw!r}.")
+            return int(raw)
+        value = parse_scalar(raw, self.dimension, key)
+        if self.positive and not value > 0:
+            raise ScenarioError(key, f"must be positive, not {raw!r}.")
+        return value
 
 
 PARTICLE_ENTRIES = {
@@ -42,8 +72,8 @@ PARTICLE_ENTRIES = {
         Entry("u", "vector", "dimensionless", "u = γβ", "normalised momentum vector at the start"),
         Entry("direction", "vector", "dimensionless", "direction", "direction of motion (normalised for you)"),
         Entry("charge_state", "scalar", "dimensionless", "charge state Z", "ion charge in units of e"),
-        Entry("mass_number", "scalar", "dimensionless", "mass number A", "nucleons in the ion"),
-        Entry("mass", "scalar", "mass", "mass", "rest mass"),
+        Entry("mass_number", "scalar", "dimensionless", "mass number A", "nucleons in the ion", positive=True),
+        Entry("mass", "scalar", "mass", "mass", "rest mass", positive=True),
         Entry("charge", "scalar", "charge", "charge", "signed charge"),
     )
 }
@@ -63,16 +93,16 @@ MOMENTUM_LABELS = {
 RUN_ENTRIES = {
     e.name: e
     for e in (
-        Entry("duration", "scalar", "time", "duration", "simulated time"),
-        Entry("dt", "scalar", "time", "time step dt", "fixed time step"),
+        Entry("duration", "scalar", "time", "duration", "simulated time", positive=True),
+        Entry("dt", "scalar", "time", "time step dt", "fixed time step", positive=True),
         Entry("steps_per_period", "scalar", "dimensionless", "steps per period",
-              "steps per fastest initial time scale (gyration or field period)"),
+              "steps per fastest initial time scale (gyration or field period)", positive=True),
         Entry("save_every", "integer", "dimensionless", "save every", "keep every n-th step"),
         Entry("max_steps", "integer", "dimensionless", "max steps", "refuse plans longer than this"),
         Entry("adaptive", "boolean", "dimensionless", "adaptive step",
               "let the step follow the local time scale as it changes"),
-        Entry("dt_min", "scalar", "time", "smallest dt", "lower bound of the adaptive step"),
-        Entry("dt_max", "scalar", "time", "largest dt", "upper bound of the adaptive step"),
+        Entry("dt_min", "scalar", "time", "smallest dt", "lower bound of the adaptive step", positive=True),
+        Entry("dt_max", "scalar", "time", "largest dt", "upper bound of the adaptive step", positive=True),
     )
 }
 

@@ -47,20 +47,15 @@ def browser_context_args(browser_context_args):
 @pytest.fixture(scope="module")
 def lab_url():
     """The lab served in this process (``pn.serve(threaded=True)``) on a free loopback port."""
-    import panel as pn
-
     from ui.app import create_app
+    from ui.server import LabServer
 
-    port = free_port()
-    server = pn.serve({"lab": create_app}, port=port, address="127.0.0.1",
-                      websocket_origin=f"127.0.0.1:{port}", threaded=True, show=False, verbose=False)
-    url = f"http://127.0.0.1:{port}/lab"
+    server = LabServer(create_app, port=free_port(), path="/lab").start()
     try:
-        wait_for_http(url)
-        yield url
+        wait_for_http(server.url)
+        yield server.url
     finally:
         server.stop()
-        server.join(10)
 
 
 @pytest.fixture(scope="session")

@@ -1,7 +1,5 @@
 """The lab's forms and views without a browser: generated forms, error placement, preview, export."""
 
-import sys
-import types
 from dataclasses import replace
 
 import numpy as np
@@ -12,7 +10,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -137,8 +135,7 @@ def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
     lab = create_app()
     root = pn.panel(lab).get_root(Document())
     assert root is not None
-    names = lab.tabs._names
-    assert names[:2] == [TAB_FIELDS, TAB_RESULTS]
+    assert lab.tabs.titles[:3] == [TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM]
     assert lab.state.scenario is not None
     other = create_app()
     assert other.state is not lab.state  # every session has its own state
@@ -193,35 +190,21 @@ def test_exports_are_the_engines_own_files(ring, tmp_path):
     assert len(csv.splitlines()) == 2 + len(comparison.undamped.t)
 
 
-# ---------------------------------------------------------------------- spectrum tab
-def test_spectrum_tab_gets_every_comparison(monkeypatch):
-    calls = []
-
-    class SpectrumPanel(pn.viewable.Viewer):
-        def __panel__(self):
-            return pn.pane.Markdown("spectrum")
-
-        def update(self, comparison):
-            calls.append(comparison)
-
-    fake = types.ModuleType("ui.views.spectrum")
-    fake.SpectrumPanel = SpectrumPanel
-    monkeypatch.setitem(sys.modules, "ui.views.spectrum", fake)
+# ---------------------------------------------------------------------- tabs
+def test_tabs_are_built_when_first_shown_and_catch_up_with_the_state():
     lab = create_app()
-    assert lab.tabs._names[-1] == TAB_SPECTRUM
-    assert lab.state.start_run()
-    lab.state.controller.wait(60)
-    lab.controls._poll()
-    assert calls == [lab.state.comparison]
-
-
-def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
-    monkeypatch.setitem(sys.modules, "ui.views.spectrum", None)  # import raises ModuleNotFoundError
-    panel, message = spectrum_panel()
-    assert panel is None and message == ""
-    lab = create_app()
-    assert TAB_SPECTRUM not in lab.tabs._names
-    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS]
+    assert list(lab.tabs.built) == [TAB_FIELDS]  # a page load pays for the visible tab only
+    assert lab.controls.start()
+    lab.state.controller.wait(120)
+    lab.link.poll()
+    assert lab.tabs.tabs.active == lab.tabs.index(TAB_RESULTS)
+    assert TAB_RESULTS in lab.tabs.built and TAB_SPECTRUM not in lab.tabs.built
+    spectrum = lab.spectrum  # built now: shows the run that finished before it existed
+    assert spectrum._comparison is lab.state.comparison
+    assert not spectrum.compute_button.disabled
+    lab.state.load_bundled("mirror_trap.toml")  # another scenario: the old results go everywhere
+    assert lab.state.comparison is None and lab.state.status == "idle"
+    assert spectrum._comparison is None and spectrum.compute_button.disabled
 
 
 @pytest.mark.parametrize("name", sorted(bundled_scenarios()))
@@ -230,15 +213,15 @@ def test_every_bundled_scenario_previews_runs_and_draws(name):
     assert lab.state.load_bundled(name)
     preview = next(v for v in lab.page.select(pn.pane.HTML) if 'id="preview-message"' in str(v.object))
     assert "Scenario.fields_at" in preview.object
-    assert lab.state.start_run()
+    assert lab.controls.start()
     lab.state.controller.wait(120)
-    lab.controls._poll()
+    lab.link.poll()
     assert lab.state.status == "completed", lab.state.status_text
     orbits = lab.state.prepared["orbits"]
     assert orbits["box"] is not None and orbits["plane"] in ("x-y", "x-z", "y-z")
     series = lab.state.prepared["series"]["runs"]["damped"]
     assert len(series["t"]) == len(series["gamma"]) > 1
-    assert lab.tabs.active == 1  # the results tab opens after a run
+    assert lab.tabs.tabs.active == 1  # the results tab opens after a run
     assert "Scenario.fields_at" in preview.object  # the preview redrew around the orbit
 
 

@@ -12,6 +12,7 @@ Public API (all SI; see each function's docstring for units and shapes)::
 from .angular import angular_distribution, direction_grid, orbit_kinematics, radiation_pattern
 from .spectrum import (default_direction, default_omega, photon_energy_ev, polarization_basis,
                        radiation_amplitudes, resolved_band, spectrum)
+from .spectra import SpectrumSet, spectra
 from .synchrotron import (critical_frequency, default_synchrotron_omega, local_synchrotron, photon_spectrum,
                           spectral_shape, synchrotron_spectrum, universal_function)
 
@@ -20,5 +21,5 @@ __all__ = [
     "spectrum", "radiation_amplitudes", "resolved_band", "polarization_basis", "default_direction",
     "default_omega", "photon_energy_ev",
     "synchrotron_spectrum", "photon_spectrum", "critical_frequency", "local_synchrotron", "default_synchrotron_omega",
-    "universal_function", "spectral_shape",
+    "universal_function", "spectral_shape", "spectra", "SpectrumSet",
 ]

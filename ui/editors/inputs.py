@@ -50,7 +50,7 @@ def placeholder_texts(kind, default):
 
 
 class ErrorBoard:
-    """Puts the engine's message under the row it concerns; one state watcher per editor.
+    """Puts every message under the row it concerns; one state watcher per editor.
 
     Rows are registered on each form rebuild (``reset`` first), so rows of an old
     form do not linger.
@@ -59,19 +59,19 @@ class ErrorBoard:
     def __init__(self, state):
         self.state = state
         self.rows = []
-        state.param.watch(self._refresh, ["error", "error_key"])
+        state.param.watch(self._refresh, ["errors"])
 
     def reset(self):
         self.rows = []
 
     def add(self, row):
         self.rows.append(row)
-        row.show_error(self.state.error_key, self.state.error)
+        row.show_errors(self.state.errors)
         return row
 
     def _refresh(self, *_):
         for row in self.rows:
-            row.show_error(self.state.error_key, self.state.error)
+            row.show_errors(self.state.errors)
 
 
 class EntryRow(Viewer):
@@ -166,17 +166,23 @@ class EntryRow(Viewer):
         self.state.set_value(self.path, event.new)
 
     # ------------------------------------------------------------------ errors
-    def show_error(self, error_key, message):
-        """Show ``message`` under the row when ``error_key`` names this input."""
-        mine = error_belongs_to(error_key, self.key)
+    def show_errors(self, errors):
+        """Show every message of ``errors`` ({key path: message}) that names this input."""
+        mine = {key: message for key, message in errors.items() if error_belongs_to(key, self.key)}
+        body = "<br>".join(html.escape(message) for message in mine.values())
         text = (f'<div class="ro-error" id="err-{slug(self.key)}" '
-                f'style="color:#b3261e;font-size:12.5px;">{html.escape(message)}</div>') if mine else ""
+                f'style="color:#b3261e;font-size:12.5px;">{body}</div>') if mine else ""
         if self._error.object != text:
             self._error.object = text
-        self._error.visible = mine
+        self._error.visible = bool(mine)
+        if self.kind == "boolean":
+            return
         for i, box in enumerate(self._boxes):
-            bad = mine and (self.kind != "vector" or error_key in (self.key, f"{self.key}[{i}]"))
-            if self.kind == "boolean":
-                continue
+            bad = bool(mine) and (self.kind != "vector" or any(k in (self.key, f"{self.key}[{i}]") for k in mine))
             classes = [c for c in box.css_classes if c != "ro-bad"]
-            box.css_classes = classes + (["ro-bad"] if bad else [])
+            if classes + (["ro-bad"] if bad else []) != list(box.css_classes):
+                box.css_classes = classes + (["ro-bad"] if bad else [])
+
+    def show_error(self, error_key, message):
+        """Show one message when ``error_key`` names this input (see ``show_errors``)."""
+        self.show_errors({error_key: message} if error_key else {})

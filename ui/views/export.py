@@ -46,6 +46,7 @@ class ExportView(Viewer):
         self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0), self._note,
                                  sizing_mode="stretch_width", margin=0)
         state.param.watch(self._refresh, "comparison")
+        self._refresh()
 
     def __panel__(self):
         return self._layout

@@ -49,7 +49,7 @@ def value_errors(draft):
         try:
             entry.parse(raw, key)
         except ScenarioError as exc:
-            errors.setdefault(exc.key or key, str(exc))
+            errors.setdefault(exc.key or key, _capped(str(exc)))
         except Exception as exc:  # a value no parser expected: still one message under its box
             errors.setdefault(key, f"{key}: cannot read {raw!r} ({type(exc).__name__}).")
 
@@ -65,6 +65,9 @@ def value_errors(draft):
             continue
         model = field_model(raw_field.get("type"))
         if model is None:
+            if "type" in raw_field:
+                errors[f"field[{i}].type"] = (f"field[{i}].type: must be one of "
+                                              f"{', '.join(map(repr, FIELD_MODELS))}, not {raw_field['type']!r}.")
             continue
         for p in model.params:
             if p.name in raw_field:

@@ -12,6 +12,7 @@ from panel.viewable import Viewer
 
 from tracker.fields import MODELS as FIELD_MODELS
 
+from ..state import field_model
 from .inputs import ErrorBoard, EntryRow
 from ..theme import UNITS_NOTE, html_pane
 
@@ -75,7 +76,7 @@ class FieldComposer(Viewer):
 
     def _card(self, index, raw, count):
         type_name = raw.get("type") if isinstance(raw, dict) else None
-        model = FIELD_MODELS.get(type_name)
+        model = field_model(type_name)
         up = pn.widgets.Button(label="↑", width=34, margin=(0, 2), disabled=index == 0,
                                description="move up", css_classes=[f"field-{index}-up"])
         down = pn.widgets.Button(label="↓", width=34, margin=(0, 2), disabled=index == count - 1,

@@ -184,7 +184,7 @@ def test_a_run_shows_exactly_what_compare_returns(state):
         want = getattr(expected, name).summary()
         assert got["energy_radiated"] == want["energy_radiated"]
         assert got["final_energy"] == want["final_energy"]
-    assert state.prepared["orbits"]["runs"]["damped"]["x"].size > 0
+    assert state.prepared["orbits"]["paths"]["damped"]["x-y"]["h"].size > 0
     assert not state.results_stale
     state.set_value(("field", 0, "B"), ["0 T", "0 T", "1.3 T"])
     assert state.results_stale

@@ -18,7 +18,7 @@ from ui.entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
 from ui.format import LENGTH_UNITS, energy_text, pick_unit, unit_label
 from ui.state import LabState
 from ui.views import prepare_drawing
-from ui.views.decimate import minmax_indices, stride_indices
+from ui.views.decimate import minmax_indices, path_indices
 from ui.views.export import result_bytes
 from ui.views.preview import field_slice, plane_along, slice_images
 from ui.views.summary import summary_html
@@ -72,9 +72,25 @@ def test_minmax_decimation_keeps_a_one_sample_peak_and_both_ends():
 
 def test_short_series_are_not_decimated():
     assert np.array_equal(minmax_indices([np.arange(10.0)], 500), np.arange(10))
-    assert np.array_equal(stride_indices(5, 100), np.arange(5))
-    idx = stride_indices(10_001, 1000)
-    assert idx[-1] == 10_000 and len(idx) <= 1002
+    assert np.array_equal(path_indices(np.arange(2.0), np.arange(2.0), (0, 0), (1, 1)), np.arange(2))
+
+
+def test_path_thinning_keeps_a_fast_gyration_inside_its_ring():
+    # a guiding centre circling at R = 1.6 m while gyrating with radius 0.2 m, 200 turns of it per
+    # lap: every state has 1.4 <= R <= 1.8 m; thinning by a stride drew chords deep inside that ring
+    t = np.linspace(0.0, 2 * np.pi, 2_000_001)
+    phase = 200 * t
+    x = 1.6 * np.cos(t) + 0.2 * np.cos(phase)
+    y = 1.6 * np.sin(t) + 0.2 * np.sin(phase)
+    idx = path_indices(x, y, (-1.8, -1.8), (1.8, 1.8), cells=2000)
+    assert idx[0] == 0 and idx[-1] == len(t) - 1 and len(idx) < len(t) / 10
+    # each drawn segment joins states at most one cell apart: its points stay within the ring +- a cell
+    cell = 3.6 / 2000
+    for s in np.linspace(0.0, 1.0, 5):
+        hx = x[idx[:-1]] + s * np.diff(x[idx])
+        hy = y[idx[:-1]] + s * np.diff(y[idx])
+        r = np.hypot(hx, hy)
+        assert r.min() >= 1.4 - 2 * cell and r.max() <= 1.8 + 2 * cell
 
 
 # ---------------------------------------------------------------------- generated forms

@@ -378,10 +378,8 @@ class FieldPreview(Viewer):
         prepared = self.state.prepared
         if not prepared:
             return {"h": [], "v": []}
-        orbits = prepared["orbits"]
-        run = orbits["runs"]["damped"]
-        h, v = AXES[a], AXES[b]
-        return {"h": np.asarray(run[h]) / scale, "v": np.asarray(run[v]) / scale}
+        path = prepared["orbits"]["paths"]["damped"].get(f"{AXES[a]}-{AXES[b]}", {"h": [], "v": []})
+        return {"h": np.asarray(path["h"]) / scale, "v": np.asarray(path["v"]) / scale}
 
 
 def _label(text):

@@ -464,6 +464,8 @@ class LabState(param.Parameterized):
         else:
             status = "stopped"
             why = reason.description if reason is not None else str(meta.get("stop_reason", "unknown reason"))
+            if meta.get("stop_detail"):
+                why += f" ({meta['stop_detail']})"
             text = f"stopped early after {steps:,} of {planned:,} steps: {why}"
         self.param.update(
             run_scenario=ctl.scenario,

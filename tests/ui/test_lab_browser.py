@@ -227,3 +227,67 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
         stop_server(proc)
         log.close()
 
+
+
+def test_three_bad_values_give_three_messages(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, LASER)
+    type_into(page, ".in-run-duration", "3 parsec")
+    type_into(page, ".in-field-0-wavelength", "-0.8 um")
+    type_into(page, ".in-particle-kinetic_energy", "abc")
+    expect(page.locator("#err-run-duration")).to_contain_text("wrong dimension")
+    expect(page.locator("#err-field-0-wavelength")).to_contain_text("must be positive")
+    expect(page.locator("#err-particle-kinetic_energy")).to_contain_text("abc")
+    expect(page.locator('#scenario-error[data-count="3"]')).to_be_visible()
+    expect(page.locator(".run-button button")).to_be_disabled()
+
+
+def test_downloaded_scenario_keeps_the_text_as_entered(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    open_bundled(page, LASER)
+    type_into(page, ".in-run-duration", "130 fs")
+    expect(page.locator("#scenario-ok")).to_be_visible()
+    with page.expect_download() as info:
+        page.locator(".download-scenario button").click()
+    path = tmp_path / "laser.toml"
+    info.value.save_as(path)
+    text = path.read_text(encoding="utf-8")
+    assert 'duration = "130 fs"' in text and 'duration = "25 fs"' in text and 'kinetic_energy = "1 GeV"' in text
+    want = edited(LASER, lambda d: d["run"].update(duration="130 fs"))
+    assert Scenario.from_toml(text).to_dict() == want.to_dict()  # the round trip stays exact
+
+
+@pytest.mark.parametrize("width, height", [(1280, 720), (1920, 1080)])
+def test_the_page_has_no_horizontal_scroll(browser, lab_url, width, height):
+    context = browser.new_context(viewport={"width": width, "height": height})
+    try:
+        page = context.new_page()
+        open_lab(page, lab_url)
+        open_bundled(page, RING)
+        run_and_wait(page)
+        page.wait_for_function("() => document.querySelectorAll('.orbit-equal').length > 0")
+        scroll = page.evaluate("() => document.documentElement.scrollWidth")
+        assert scroll <= width, f"page is {scroll} px wide at a {width} px viewport"
+    finally:
+        context.close()
+
+
+def test_equal_scales_draw_a_circle_round(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, RING)
+    run_and_wait(page)
+    expect(page.locator(".orbit-equal input")).to_be_checked()
+    # pixels per unit length along x and y of the x-y projection, from Bokeh's own frame geometry
+    ratio = page.wait_for_function("""() => {
+        for (const view of Bokeh.index.all_views()) {
+            const m = view.model;
+            if (!m.title || !m.title.text || !m.title.text.includes('x-y projection')) continue;
+            const f = view.frame;
+            if (!f || !f.bbox || f.bbox.width < 10) continue;
+            const px = f.bbox.width / (m.x_range.end - m.x_range.start);
+            const py = f.bbox.height / (m.y_range.end - m.y_range.start);
+            return px / py;
+        }
+        return null;
+    }""").json_value()
+    assert abs(ratio - 1.0) < 0.01

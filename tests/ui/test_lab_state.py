@@ -353,3 +353,12 @@ def test_wrongly_typed_values_give_messages_and_forms_still_build(text, key):
     assert s.scenario is None and key in s.errors
     FieldComposer(s), ParticleEditor(s), RunEditor(s)  # build without raising
     assert s.load_bundled(RING) and s.scenario is not None  # and the session goes on
+
+
+def test_download_keeps_units_as_entered_and_round_trips(state):
+    state.set_value(("run", "duration"), "120 fs")
+    state.set_value(("field", 0, "B"), ["0 T", 0.0, "1.43 T"])
+    text = state.toml_text()
+    assert 'duration = "120 fs"' in text and 'B = ["0 T", 0.0, "1.43 T"]' in text
+    assert "1.2000000000000002e-13" not in text
+    assert Scenario.from_toml(text).to_dict() == state.scenario.to_dict()

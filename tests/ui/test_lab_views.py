@@ -93,6 +93,35 @@ def test_path_thinning_keeps_a_fast_gyration_inside_its_ring():
         assert r.min() >= 1.4 - 2 * cell and r.max() <= 1.8 + 2 * cell
 
 
+def test_drawn_orbit_stays_inside_the_saved_radius_range():
+    # the case that drew a filled disc: a fast gyration around a torus, thinned for drawing
+    from types import SimpleNamespace
+
+    from ui.views.orbits import prepare_orbits
+
+    t = np.linspace(0.0, 2 * np.pi, 400_001)
+    x = np.stack([1.6 * np.cos(t) + 0.2 * np.cos(9000 * t), 1.6 * np.sin(t) + 0.2 * np.sin(9000 * t),
+                  0.01 * np.sin(3 * t)], axis=1)
+    r_saved = np.hypot(x[:, 0], x[:, 1])
+    run = SimpleNamespace(x=x)
+    drawn = prepare_orbits(SimpleNamespace(damped=run, undamped=run))
+    path = drawn["paths"]["damped"]["x-y"]
+    if len(path["h"]):
+        r = np.hypot(path["h"], path["v"])
+        assert r.min() >= r_saved.min() - 1e-3 and r.max() <= r_saved.max() + 1e-3
+    else:  # too dense for a line: the visited cells, which lie in the ring
+        image = drawn["images"]["damped"]["x-y"]
+        (h0, v0), (h1, v1) = image["lo"], image["hi"]
+        rows, cols = np.nonzero(image["rgba"] >> 24)
+        n = image["rgba"].shape[0]
+        hc = h0 + (cols + 0.5) * (h1 - h0) / n
+        vc = v0 + (rows + 0.5) * (v1 - v0) / n
+        cell = max(h1 - h0, v1 - v0) / n
+        r = np.hypot(hc, vc)
+        assert r.min() >= r_saved.min() - cell and r.max() <= r_saved.max() + cell
+    assert "x-y" in drawn["notes"]  # the page says that, and how, it thinned
+
+
 # ---------------------------------------------------------------------- generated forms
 def test_every_registered_field_model_gets_a_form_with_units(ring):
     composer = FieldComposer(ring)

@@ -205,6 +205,11 @@ class RunQueue:
         for nxt in starting:
             nxt._launch()
 
+    def jobs(self) -> list[Job]:
+        """Every job running or waiting, running ones first."""
+        with self._lock:
+            return [*self._running, *self._waiting]
+
     @property
     def running(self) -> int:
         with self._lock:

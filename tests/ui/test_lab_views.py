@@ -122,6 +122,18 @@ def test_drawn_orbit_stays_inside_the_saved_radius_range():
     assert "x-y" in drawn["notes"]  # the page says that, and how, it thinned
 
 
+def test_preview_says_so_while_the_draft_is_invalid(ring):
+    from ui.views.preview import FieldPreview
+
+    preview = FieldPreview(ring)
+    assert len(preview.images["B"].data["image"]) == 1
+    ring.set_value(("field", 0, "B"), ["0 T", "0 T", "abc"])
+    assert 'data-valid="false"' in preview.message.object
+    assert all(len(source.data["image"]) == 0 for source in preview.images.values())
+    ring.set_value(("field", 0, "B"), ["0 T", "0 T", "1 T"])
+    assert 'data-valid="true"' in preview.message.object and len(preview.images["B"].data["image"]) == 1
+
+
 # ---------------------------------------------------------------------- generated forms
 def test_every_registered_field_model_gets_a_form_with_units(ring):
     composer = FieldComposer(ring)
@@ -292,3 +304,22 @@ def test_every_run_key_of_the_engine_has_an_input(ring):
     keys = {r.key for r in RunEditor(ring).rows}
     step_keys = {"run.dt", "run.steps_per_period"}
     assert {f"run.{k}" for k in RUN_KEYS} - step_keys <= keys
+
+
+def test_opening_a_scenario_keeps_the_boxes_of_inputs_it_shares():
+    # a value typed just after Open must land in a box that stays on the page (the race that dropped it)
+    from ui.editors.particle import ParticleEditor
+
+    state = LabState()
+    state.load_bundled("laser_headon_gev.toml")
+    run, particle, fields = RunEditor(state), ParticleEditor(state), FieldComposer(state)
+    before = {r.key: r for editor in (run, particle, fields) for r in editor.rows}
+    state.load_bundled("laser_headon_gev.toml")
+    after = {r.key: r for editor in (run, particle, fields) for r in editor.rows}
+    assert after.keys() == before.keys() and all(after[k] is before[k] for k in after)
+    state.load_bundled("storage_ring_bend.toml")
+    rows = {r.key: r for r in run.rows}
+    assert rows["run.duration"] is before["run.duration"]
+    assert rows["run.duration"].boxes[0].value == raw_to_entry(state.draft["run"]["duration"])
+    rows["run.duration"].boxes[0].value = "2 ns"  # typing still edits the new draft
+    assert state.draft["run"]["duration"] == "2 ns"

@@ -13,7 +13,7 @@ from panel.viewable import Viewer
 from tracker.fields import MODELS as FIELD_MODELS
 
 from ..state import field_model
-from .inputs import ErrorBoard, EntryRow
+from .inputs import ErrorBoard, RowCache
 from ..theme import UNITS_NOTE, html_pane
 
 CARD_HEADER = "#e6ecf2"
@@ -24,11 +24,11 @@ def model_options():
     return {f"{model.label} ({name})": name for name, model in FIELD_MODELS.items()}
 
 
-def field_rows(state, index, model):
-    """One EntryRow per parameter of ``model`` for field component ``index``."""
+def field_rows(cache, index, model):
+    """One EntryRow (kept across rebuilds by ``cache``) per parameter of ``model`` for field ``index``."""
     return [
-        EntryRow(state, ("field", index, p.name), p.name, p.kind, unit=p.unit, dimension=p.dimension,
-                 doc=p.doc, default=p.default, choices=p.choices)
+        cache.row(("field", index, p.name), p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc,
+                  default=p.default, choices=p.choices)
         for p in model.params
     ]
 
@@ -40,6 +40,8 @@ class FieldComposer(Viewer):
         super().__init__(**params)
         self.state = state
         self.board = ErrorBoard(state)
+        self.cache = RowCache(state)
+        self._card_cache = {}  # (index, type) -> (card, up, down, rows): kept so its boxes stay in the page
         self.rows = []  # EntryRows of the current forms (for tests and the error board)
         self._type = pn.widgets.Select(options=model_options(), width=300, margin=(4, 4),
                                        css_classes=["field-type-select"])
@@ -77,6 +79,13 @@ class FieldComposer(Viewer):
     def _card(self, index, raw, count):
         type_name = raw.get("type") if isinstance(raw, dict) else None
         model = field_model(type_name)
+        if model is not None and (index, model.name) in self._card_cache:
+            card, up, down, rows = self._card_cache[(index, model.name)]
+            up.disabled, down.disabled = index == 0, index == count - 1
+            for row in field_rows(self.cache, index, model):  # the same rows, values refreshed
+                self.board.add(row)
+            self.rows.extend(rows)
+            return card
         up = pn.widgets.Button(label="↑", width=34, margin=(0, 2), disabled=index == 0,
                                description="move up", css_classes=[f"field-{index}-up"])
         down = pn.widgets.Button(label="↓", width=34, margin=(0, 2), disabled=index == count - 1,
@@ -92,7 +101,7 @@ class FieldComposer(Viewer):
                                  f'{html.escape(", ".join(FIELD_MODELS))}. Remove it or fix the file.</div>')]
         else:
             title = f"field[{index}] · {model.label}"
-            rows = field_rows(self.state, index, model)
+            rows = field_rows(self.cache, index, model)
             for row in rows:
                 self.board.add(row)
             self.rows.extend(rows)
@@ -103,5 +112,8 @@ class FieldComposer(Viewer):
                          sizing_mode="stretch_width"),
             up, down, remove, sizing_mode="stretch_width", margin=0,
         )
-        return pn.Card(*body, header=header, collapsible=False, header_background=CARD_HEADER,
+        card = pn.Card(*body, header=header, collapsible=False, header_background=CARD_HEADER,
                        sizing_mode="stretch_width", margin=(4, 0), css_classes=[f"field-card-{index}"])
+        if model is not None:
+            self._card_cache[(index, model.name)] = (card, up, down, rows)
+        return card

@@ -74,6 +74,31 @@ class ErrorBoard:
             row.show_errors(self.state.errors)
 
 
+class RowCache:
+    """Keeps one ``EntryRow`` per input across form rebuilds.
+
+    A rebuilt form reuses the row of the same input (same path, kind, unit, default and
+    choices) with its value refreshed, so the box in the page stays the same element:
+    a value typed while a newly opened scenario's forms arrive goes to a box that stays,
+    instead of to one that is being replaced (where it would be lost).
+    """
+
+    def __init__(self, state):
+        self.state = state
+        self._rows = {}
+
+    def row(self, path, label, kind, unit="", dimension="dimensionless", doc="", default=REQUIRED, choices=()):
+        key = (tuple(path), label, kind, unit, dimension, doc, id(default) if default is REQUIRED else repr(default),
+               tuple(choices))
+        row = self._rows.get(key)
+        if row is None:
+            row = self._rows[key] = EntryRow(self.state, path, label, kind, unit=unit, dimension=dimension, doc=doc,
+                                             default=default, choices=choices)
+        else:
+            row.refresh()
+        return row
+
+
 class EntryRow(Viewer):
     """Label, one or three text boxes (or a selector), the SI unit, and the engine's error.
 
@@ -102,6 +127,8 @@ class EntryRow(Viewer):
         self.path = tuple(path)
         self.key = key_path(self.path)
         self.kind = kind
+        self.default = default
+        self._syncing = False
         value = state.value(self.path)
         name = slug(self.key)
         tip = "; ".join(t for t in (doc, hint(dimension, unit) if kind != "choice" else "") if t)
@@ -152,18 +179,41 @@ class EntryRow(Viewer):
         return list(self._boxes)
 
     # ------------------------------------------------------------------ edits
+    def refresh(self):
+        """Show the draft's current value (after a load or a reorder) without writing it back."""
+        value = self.state.value(self.path)
+        self._syncing = True
+        try:
+            if self.kind == "boolean":
+                self._boxes[0].value = bool(value if value is not None else self.default is True)
+            elif self.kind == "choice":
+                box = self._boxes[0]
+                options = list(box.options)
+                box.value = value if value in options else (self.default if self.default in options else options[0])
+            elif self.kind == "vector":
+                for box, text in zip(self._boxes, vector_entries(value)):
+                    box.value = text
+            else:
+                self._boxes[0].value = raw_to_entry(value)
+        finally:
+            self._syncing = False
+
     def _scalar_changed(self, event):
-        self.state.set_value(self.path, entry_to_raw(event.new))
+        if not self._syncing:
+            self.state.set_value(self.path, entry_to_raw(event.new))
 
     def _vector_changed(self, _event):
-        self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
+        if not self._syncing:
+            self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
 
     def _flag_changed(self, event):
         # off is the default: leave the key out rather than write false
-        self.state.set_value(self.path, True if event.new else None, relayout=True)
+        if not self._syncing:
+            self.state.set_value(self.path, True if event.new else None, relayout=True)
 
     def _choice_changed(self, event):
-        self.state.set_value(self.path, event.new)
+        if not self._syncing:
+            self.state.set_value(self.path, event.new)
 
     # ------------------------------------------------------------------ errors
     def show_errors(self, errors):

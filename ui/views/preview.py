@@ -133,6 +133,9 @@ class FieldPreview(Viewer):
                                     ("C", "Bz (T)", COMPONENT_PALETTE)):
             fig = new_figure(title, "x (m)", "y (m)", height=330, x_range=self.x_range, y_range=self.y_range)
             fig.grid.visible = False
+            # three plots share a row on a laptop screen: few ticks keep their labels apart
+            fig.xaxis.ticker.desired_num_ticks = 4
+            fig.yaxis.ticker.desired_num_ticks = 5
             source = ColumnDataSource({"image": [], "x": [], "y": [], "dw": [], "dh": []})
             linear = LinearColorMapper(palette=palette, nan_color=NAN_COLOR)
             mappers = {"linear": linear}
@@ -306,8 +309,18 @@ class FieldPreview(Viewer):
     def _redraw(self, *_):
         scenario = self.state.scenario
         if scenario is None:
-            self.message.object = ('<div class="ro-note" id="preview-message">The preview waits for a valid '
-                                   "scenario (see the message beside the inputs).</div>")
+            self.message.object = ('<div class="ro-note" id="preview-message" data-valid="false">No preview: the '
+                                   "scenario is not valid (see the messages beside the inputs).</div>")
+
+            def blank():
+                # never show the field of an earlier, valid draft as if it were this one
+                for key, fig in self.figures.items():
+                    self.images[key].data = {"image": [], "x": [], "y": [], "dw": [], "dh": []}
+                    fig.title.text = "no valid scenario"
+                self.orbit.data = {"h": [], "v": []}
+                self.start.data = {"h": [], "v": []}
+
+            apply_to_models(blank)
             return
         try:
             centre, half = self._window()
@@ -368,7 +381,7 @@ class FieldPreview(Viewer):
         apply_to_models(change)
         where = ", ".join(f"{c / scale:.4g}" for c in centre)
         self.message.object = (
-            f'<div class="ro-note" id="preview-message">{plane} plane through ({where}) {unit}, '
+            f'<div class="ro-note" id="preview-message" data-valid="true">{plane} plane through ({where}) {unit}, '
             f"t = {quantity_text(t, TIME_UNITS, 4)}, {GRID}×{GRID} points from Scenario.fields_at; "
             "white dot: particle start"
             + ("; line: last damped orbit" if len(orbit["h"]) else "")

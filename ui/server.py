@@ -123,6 +123,8 @@ class LabServer:
         apps = self.app if self.path == "/" else {self.path.strip("/"): self.app}
         server = pn.serve(apps, port=self.port, address=self.address, loop=loop, start=False, show=False,
                           title=self.title, verbose=False, threaded=False,
+                          # no URL sync (unused here), and Panel's URL parser fails on IPv6 host names
+                          location=False,
                           # Bokeh's parser of this option cannot read IPv6 names: they are added below
                           websocket_origin=[o for o in websocket_origins(self.hosts, self.port or 0)
                                             if not o.startswith("[")],

@@ -291,3 +291,37 @@ def test_equal_scales_draw_a_circle_round(page, lab_url):
         return null;
     }""").json_value()
     assert abs(ratio - 1.0) < 0.01
+
+
+def test_a_click_on_a_switch_label_toggles_it(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, RING)
+    run_and_wait(page)
+    box = page.locator(".log-power input")
+    expect(box).not_to_be_checked()
+    page.get_by_text("log scale for the Liénard power P(t)").click()
+    expect(box).to_be_checked()
+    equal = page.locator(".orbit-equal input")
+    before = equal.is_checked()
+    page.get_by_text("same scale on all axes").click()
+    expect(equal).to_be_checked(checked=not before)
+
+
+def test_an_oversize_upload_gets_a_message_and_the_session_keeps_working(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    big = tmp_path / "huge.toml"
+    big.write_text("title = '" + "x" * 3_000_000 + "'\n", encoding="utf-8")
+    page.locator(".upload-scenario input[type=file]").set_input_files(str(big))
+    expect(page.get_by_text("File is too large")).to_be_visible(timeout=30_000)
+    type_into(page, ".in-field-0-a0", "13")  # the session still answers
+    scenario = edited(LASER, lambda d: d["field"][0].update(a0=13))
+    expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
+
+
+def test_a_deeply_nested_upload_gets_a_message(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    deep = tmp_path / "deep.toml"
+    deep.write_text("x = " + "[" * 500 + "]" * 500 + "\n", encoding="utf-8")
+    page.locator(".upload-scenario input[type=file]").set_input_files(str(deep))
+    expect(page.locator("#source-error")).to_contain_text("nested", timeout=30_000)
+    expect(page.locator(".run-button button")).to_be_enabled()

@@ -25,6 +25,7 @@ from tracker import ScenarioError
 from tracker import radiation
 
 from ..session import SessionLink
+from .palette import style_legend
 from ..work import Job
 
 RUNS = ("damped", "undamped")
@@ -150,8 +151,7 @@ class SpectrumPanel(Viewer):
         for name in RUNS:
             self.spectrum_figure.line("x", "y", source=self.spectrum_sources[name], legend_label=RUN_LABELS[name],
                                       **RUN_STYLES[name])
-        self.spectrum_figure.legend.location = "bottom_left"
-        self.spectrum_figure.legend.click_policy = "hide"
+        style_legend(self.spectrum_figure)  # under the plot, clear of the data
         self.spectrum_figure.toolbar.logo = None
 
         self.color_mapper = LinearColorMapper(palette="Viridis256", low=0.0, high=1.0)

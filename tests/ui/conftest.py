@@ -11,6 +11,21 @@ from lab_helpers import ARTIFACTS, CHROMIUM, CHROMIUM_ARGS, SKIP_HINT, free_port
 
 os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
 
+#: how long a browser test waits for a condition: patient, because the suite must pass on a busy
+#: shared machine (it returns as soon as the condition holds; nothing sleeps for a fixed time)
+CONDITION_TIMEOUT_MS = 60_000
+
+
+@pytest.fixture(autouse=True)
+def _patient_conditions(request):
+    if "browser" in request.keywords:
+        from playwright.sync_api import expect
+
+        expect.set_options(timeout=CONDITION_TIMEOUT_MS)
+        if "page" in request.fixturenames:
+            request.getfixturevalue("page").set_default_timeout(CONDITION_TIMEOUT_MS)
+    yield
+
 
 def chromium_available():
     return os.path.exists(CHROMIUM)

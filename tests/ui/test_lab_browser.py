@@ -51,6 +51,11 @@ def type_into(page, css, text):
     box.press("Enter")
 
 
+def paint(page):
+    """Return once the browser has painted twice since now (canvases drawn before a screenshot)."""
+    page.evaluate("() => new Promise(r => requestAnimationFrame(() => requestAnimationFrame(r)))")
+
+
 def run_and_wait(page, status="completed", runs=1):
     page.locator(".run-button button").click()
     done = page.locator(f'#run-status[data-status="{status}"][data-runs="{runs}"]')
@@ -109,11 +114,11 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts, tmp_path
     page.wait_for_function(
         "() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
         " if (m.data && m.data.gamma && m.data.gamma.length > 10) return true; return false; }")
-    page.wait_for_timeout(500)  # let the canvases paint
+    paint(page)
     page.screenshot(path=str(artifacts / "lab-results.png"), full_page=True)
     page.locator(".bk-tab", has_text="Fields").click()
     expect(page.locator(".in-field-0-a0 input")).to_be_visible()
-    page.wait_for_timeout(500)
+    paint(page)
     page.screenshot(path=str(artifacts / "lab-fields.png"), full_page=True)
     assert errors == []
 
@@ -312,7 +317,7 @@ def test_an_oversize_upload_gets_a_message_and_the_session_keeps_working(page, l
     big = tmp_path / "huge.toml"
     big.write_text("title = '" + "x" * 3_000_000 + "'\n", encoding="utf-8")
     page.locator(".upload-scenario input[type=file]").set_input_files(str(big))
-    expect(page.get_by_text("File is too large")).to_be_visible(timeout=30_000)
+    expect(page.get_by_text("File is too large").first).to_be_visible()
     type_into(page, ".in-field-0-a0", "13")  # the session still answers
     scenario = edited(LASER, lambda d: d["field"][0].update(a0=13))
     expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")

@@ -190,12 +190,9 @@ def cmd_check(args):
         ["fastest time scale", f"{plan.period:.6g} s ({plan.period_source})" if plan.period else "none found"],
         ["resolution", f"{plan.steps_per_period:.4g} steps per period" if plan.steps_per_period else "-"],
     ]
-    try:
-        from .regime import regime_rows
-    except ImportError:
-        regime_rows = None
-    if regime_rows is not None:
-        rows += [list(r) for r in regime_rows(scenario)]
+    from .regime import regime_rows
+
+    rows += [list(r) for r in regime_rows(scenario)]
     print_table(["check", "value"], rows)
     print("scenario is valid")
     return 0

@@ -89,9 +89,22 @@ def header_html(state):
 
 
 def fields_tab(context):
+    preview = pn.Column(html_pane('<div class="ro-note" id="preview-pending">drawing the field preview…</div>'),
+                        sizing_mode="stretch_width", margin=0)
+
+    def build_preview():
+        preview.objects = [FieldPreview(context.state)]
+
+    doc = pn.state.curdoc
+    if doc is not None and doc.session_context is not None:
+        # the preview's figures are half of a session's build: made once the page is up, so a page
+        # load returns sooner (and the server sooner turns to other requests)
+        pn.state.onload(build_preview)
+    else:
+        build_preview()
     return pn.Column(
         section_card("Field components (forms generated from the field registry)", FieldComposer(context.state)),
-        section_card("Field preview", FieldPreview(context.state)),
+        section_card("Field preview", preview),
         sizing_mode="stretch_width", margin=0,
     )
 

@@ -312,7 +312,7 @@ def test_three_bad_values_give_three_messages_under_their_inputs():
     assert "wrong dimension" in s.errors["run.duration"]
     assert "must be positive" in s.errors["field[0].wavelength"]
     assert "abc" in s.errors["particle.kinetic_energy"]
-    shown = {row.key: row._error.object for editor in editors for row in editor.rows if row._error.visible}
+    shown = {row.key: row.error_text for editor in editors for row in editor.rows if row.error_text}
     assert set(shown) == set(s.errors)
     for key, message in s.errors.items():
         assert html.escape(message) in shown[key]

@@ -171,11 +171,11 @@ def test_error_is_shown_beside_the_input_it_names_only(ring):
     e_row = next(r for r in composer.rows if r.key == "field[0].E")
     b_row.boxes[2].value = "abc"
     assert ring.error_key == "field[0].B[2]"
-    assert b_row._error.visible and "cannot read &#x27;abc&#x27;" in b_row._error.object
+    assert "cannot read &#x27;abc&#x27;" in b_row.error_text
     assert "ro-bad" in b_row.boxes[2].css_classes and "ro-bad" not in b_row.boxes[0].css_classes
-    assert not e_row._error.visible
+    assert not e_row.error_text
     b_row.boxes[2].value = "1.2 T"
-    assert not b_row._error.visible and "ro-bad" not in b_row.boxes[2].css_classes
+    assert not b_row.error_text and "ro-bad" not in b_row.boxes[2].css_classes
     assert ring.scenario.fields[0].params["B"] == (0.0, 0.0, 1.2)
 
 
@@ -294,7 +294,7 @@ def test_adaptive_step_inputs_appear_with_the_switch(ring):
     assert "adaptive dt range" in editor._plan.object
     rows["run.adaptive"].boxes[0].value = False  # dt_min now contradicts the switch
     assert ring.error_key == "run.dt_min"
-    assert any(r.key == "run.dt_min" and r._error.visible for r in editor.rows)
+    assert any(r.key == "run.dt_min" and r.error_text for r in editor.rows)
 
 
 def test_every_run_key_of_the_engine_has_an_input(ring):

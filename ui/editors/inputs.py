@@ -165,9 +165,8 @@ class EntryRow(Viewer):
             self._boxes = [box]
         self._unit = html_pane(f'<span class="ro-unit">{html.escape(unit_label(unit))}</span>',
                                   width=UNIT_WIDTH, margin=(8, 0, 0, 4))
-        self._error = html_pane("", visible=False, margin=(0, 8, 4, LABEL_WIDTH + 12),
-                                   sizing_mode="stretch_width")
-        self._layout = pn.Column(pn.Row(self._label, *self._boxes, self._unit, margin=0), self._error,
+        self._error = None  # made with the first message: most rows never need one (page loads stay light)
+        self._layout = pn.Column(pn.Row(self._label, *self._boxes, self._unit, margin=0),
                                  margin=0, sizing_mode="stretch_width")
 
     def __panel__(self):
@@ -222,9 +221,24 @@ class EntryRow(Viewer):
         body = "<br>".join(html.escape(message) for message in mine.values())
         text = (f'<div class="ro-error" id="err-{slug(self.key)}" '
                 f'style="color:#b3261e;font-size:12.5px;">{body}</div>') if mine else ""
+        if self._error is None:
+            if not mine:
+                self._mark_boxes(mine)
+                return
+            self._error = html_pane("", visible=False, margin=(0, 8, 4, LABEL_WIDTH + 12),
+                                    sizing_mode="stretch_width")
+            self._layout.append(self._error)
         if self._error.object != text:
             self._error.object = text
         self._error.visible = bool(mine)
+        self._mark_boxes(mine)
+
+    @property
+    def error_text(self):
+        """The HTML of the messages shown under the row ('' when none)."""
+        return self._error.object if self._error is not None and self._error.visible else ""
+
+    def _mark_boxes(self, mine):
         if self.kind == "boolean":
             return
         for i, box in enumerate(self._boxes):

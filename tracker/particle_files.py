@@ -67,7 +67,7 @@ def _read_openpmd(path, species, iteration, key):
     from .openpmd import OpenPMDError, read_particles
 
     try:
-        data = read_particles(path, mass=species.mass, iteration=iteration, species=None)
+        data = read_particles(path, mass=species.mass, iteration=iteration, species=species.name)
     except OpenPMDError as exc:
         raise ScenarioError(key, f"{path.name}: {exc}") from None
     except OSError as exc:

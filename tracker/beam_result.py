@@ -126,7 +126,7 @@ class BeamResult:
     x, u : ndarray (n_saved, N, 3), m and gamma*beta -- None when run.save = "statistics"
     gamma, power (W), radiated_energy (J), field_work (J), chi, dt (s) : ndarray (n_saved, N) or None
     lost : ndarray (N,) int8 -- stop code of each particle, 0 = alive to the end
-    lost_time : ndarray (N,), s -- when it was lost (inf if never)
+    lost_time : ndarray (N,), s -- when it was lost (NaN or inf if never)
     weight : ndarray (N,) -- real particles per tracked particle
     stats : dict of (n_saved,) arrays (keys of ``STAT_KEYS``) computed by the engine
     snapshots : list of (time s, x (N, 3) m, u (N, 3), weight (N,)) -- the run.snapshots dumps

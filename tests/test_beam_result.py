@@ -171,3 +171,20 @@ def test_hdf5_round_trip_full_and_statistics_only(tmp_path):
     assert all(np.array_equal(back.statistics()[k], r.stats[k]) for k in STAT_KEYS)
     with pytest.raises(ValueError, match="statistics only"):
         back.particle(0)
+
+
+def test_engine_statistics_agree_with_the_numpy_definition():
+    """The engine's in-kernel moments and ``beam_statistics`` on the saved states are one definition."""
+    from tracker import track
+
+    s = Scenario.from_dict({
+        "run": {"duration": "2 ps", "steps_per_period": 50, "radiation_reaction": "landau-lifshitz"},
+        "beam": {"species": "electron", "gamma": 300, "direction": [1, 0, 0], "count": 40, "energy_spread": 0.01,
+                 "divergence": 1e-3, "size": [1e-6, 1e-6, 1e-6]},
+        "field": [{"type": "uniform", "B": [0, 0, 20]}]})
+    r = track(s)
+    assert isinstance(r, BeamResult) and r.x.shape[1:] == (40, 3)
+    mine = r.statistics()
+    for key in STAT_KEYS:
+        assert np.allclose(mine[key], r.stats[key], rtol=1e-12, atol=0), key
+    assert mine["radiated_energy"][-1] > 0

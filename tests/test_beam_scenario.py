@@ -289,3 +289,15 @@ def test_csv_file_beam_with_units_header(tmp_path):
     (tmp_path / "nan.csv").write_text("x [m], y [m], z [m], ux [1], uy [1], uz [1]\n0, 0, nan, 0, 0, 1\n")
     with pytest.raises(ScenarioError, match=r"^beam\.file: .*not finite"):
         Scenario.from_toml(file_scenario_text("nan.csv"), base_dir=tmp_path)
+
+
+def test_bundled_beam_scenario_is_valid_and_round_trips():
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parent.parent / "scenarios" / "beams" / "laser_bunch_collision.toml"
+    s = load_scenario(path)
+    assert s.particle_count == 10_000 and s.run.save == "statistics" and s.beam.energy_spread == 0.01
+    assert Scenario.from_toml(s.to_toml()) == s
+    x, u, w = s.initial_particles()
+    gamma = np.sqrt(1.0 + np.sum(u * u, axis=1))
+    assert abs(gamma.std() / gamma.mean() - 0.01) < 3 * se_rms(0.01, "gaussian")

@@ -370,10 +370,8 @@ class LabState(param.Parameterized):
         return False
 
     def toml_text(self):
-        """The validated scenario as TOML keeping values as entered (None while the draft is invalid)."""
-        from .toml_text import scenario_text
-
-        return None if self.scenario is None else scenario_text(self.draft, self.scenario)
+        """The validated scenario as TOML, values as entered ("120 fs"); None while the draft is invalid."""
+        return None if self.scenario is None else self.scenario.to_toml()
 
     @property
     def results_stale(self):

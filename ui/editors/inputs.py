@@ -12,7 +12,7 @@ from panel.viewable import Viewer
 
 from tracker.fields.base import REQUIRED
 
-from ..entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
+from ..entries import entry_to_raw, list_entry, list_to_raw, raw_to_entry, vector_entries, vector_to_raw
 from ..format import unit_label
 from ..schema import hint
 from ..state import error_belongs_to, key_path
@@ -157,6 +157,12 @@ class EntryRow(Viewer):
             ]
             for box in self._boxes:
                 box.param.watch(self._vector_changed, "value")
+        elif kind == "list":
+            box = pn.widgets.TextInput(value=list_entry(value), placeholder="values separated by commas",
+                                       width=SCALAR_WIDTH + 2 * COMPONENT_WIDTH, margin=(2, 4),
+                                       css_classes=[f"in-{name}"], stylesheets=[BAD_INPUT_CSS])
+            box.param.watch(self._list_changed, "value")
+            self._boxes = [box]
         else:
             box = pn.widgets.TextInput(value=raw_to_entry(value), placeholder=placeholder_texts(kind, default),
                                        width=SCALAR_WIDTH, margin=(2, 4), css_classes=[f"in-{name}"],
@@ -192,6 +198,8 @@ class EntryRow(Viewer):
             elif self.kind == "vector":
                 for box, text in zip(self._boxes, vector_entries(value)):
                     box.value = text
+            elif self.kind == "list":
+                self._boxes[0].value = list_entry(value)
             else:
                 self._boxes[0].value = raw_to_entry(value)
         finally:
@@ -204,6 +212,10 @@ class EntryRow(Viewer):
     def _vector_changed(self, _event):
         if not self._syncing:
             self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
+
+    def _list_changed(self, event):
+        if not self._syncing:
+            self.state.set_value(self.path, list_to_raw(event.new))
 
     def _flag_changed(self, event):
         # off is the default: leave the key out rather than write false

@@ -18,7 +18,7 @@ def particle_row(cache, name, default=None):
     """EntryRow (kept across rebuilds by ``cache``) for one particle input of ``schema.PARTICLE_ENTRIES``."""
     e = schema.PARTICLE_ENTRIES[name]
     return cache.row(("particle", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
-                     default=default)
+                     default=default, choices=e.choices)
 
 
 def particle_readout(scenario):

@@ -22,7 +22,7 @@ def run_row(cache, name, default):
     """EntryRow (kept across rebuilds by ``cache``) for one [run] input of ``schema.RUN_ENTRIES``."""
     e = schema.RUN_ENTRIES[name]
     return cache.row(("run", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
-                     default=default)
+                     default=default, choices=e.choices)
 
 
 def plan_html(plan, error=""):

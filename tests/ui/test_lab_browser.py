@@ -270,7 +270,8 @@ def test_the_page_has_no_horizontal_scroll(browser, lab_url, width, height):
         open_lab(page, lab_url)
         open_bundled(page, RING)
         run_and_wait(page)
-        page.wait_for_function("() => document.querySelectorAll('.orbit-equal').length > 0")
+        expect(page.locator(".orbit-equal")).to_be_visible()
+        paint(page)
         scroll = page.evaluate("() => document.documentElement.scrollWidth")
         assert scroll <= width, f"page is {scroll} px wide at a {width} px viewport"
     finally:
@@ -284,7 +285,10 @@ def test_equal_scales_draw_a_circle_round(page, lab_url):
     expect(page.locator(".orbit-equal input")).to_be_checked()
     # pixels per unit length along x and y of the x-y projection, from Bokeh's own frame geometry
     ratio = page.wait_for_function("""() => {
-        for (const view of Bokeh.index.all_views()) {
+        const views = [];
+        const walk = v => { views.push(v); for (const c of (v.child_views || [])) walk(c); };
+        for (const root of Bokeh.index.roots) walk(root);
+        for (const view of views) {
             const m = view.model;
             if (!m.title || !m.title.text || !m.title.text.includes('x-y projection')) continue;
             const f = view.frame;
@@ -298,17 +302,25 @@ def test_equal_scales_draw_a_circle_round(page, lab_url):
     assert abs(ratio - 1.0) < 0.01
 
 
+def click_on_words(page, text):
+    """A mouse click where the words are drawn, as a person would click them."""
+    words = page.get_by_text(text)
+    words.scroll_into_view_if_needed()
+    box = words.bounding_box()
+    page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
+
+
 def test_a_click_on_a_switch_label_toggles_it(page, lab_url):
     open_lab(page, lab_url)
     open_bundled(page, RING)
     run_and_wait(page)
     box = page.locator(".log-power input")
     expect(box).not_to_be_checked()
-    page.get_by_text("log scale for the Liénard power P(t)").click()
+    click_on_words(page, "log scale for the Liénard power P(t)")
     expect(box).to_be_checked()
     equal = page.locator(".orbit-equal input")
     before = equal.is_checked()
-    page.get_by_text("same scale on all axes").click()
+    click_on_words(page, "same scale on all axes")
     expect(equal).to_be_checked(checked=not before)
 
 

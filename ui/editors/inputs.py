@@ -159,7 +159,7 @@ class EntryRow(Viewer):
                 box.param.watch(self._vector_changed, "value")
         elif kind == "list":
             box = pn.widgets.TextInput(value=list_entry(value), placeholder="values separated by commas",
-                                       width=SCALAR_WIDTH + 2 * COMPONENT_WIDTH, margin=(2, 4),
+                                       width=SCALAR_WIDTH + COMPONENT_WIDTH, margin=(2, 4),
                                        css_classes=[f"in-{name}"], stylesheets=[BAD_INPUT_CSS])
             box.param.watch(self._list_changed, "value")
             self._boxes = [box]

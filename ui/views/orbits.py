@@ -12,7 +12,7 @@ from bokeh.models import ColumnDataSource, Range1d
 from panel.viewable import Viewer
 
 from ..format import LENGTH_UNITS, pick_unit
-from ..theme import html_pane
+from ..theme import checkbox, html_pane
 from .decimate import DENSITY_CELLS, MAX_ORBIT_POINTS, PATH_CELLS, density_image, path_indices
 from .document import apply_to_models
 from .palette import RUN_STYLES, START_COLOR, new_figure, style_legend
@@ -160,7 +160,8 @@ class OrbitView(Viewer):
         self.figures = []
         for title, a, b in PROJECTIONS:
             # square frames and equal spans: equal pixels per metre on both axes
-            fig = new_figure(f"orbit, {title} projection", f"{a} (m)", f"{b} (m)", height=FRAME,
+            # a short title: with the toolbar beside it, a longer one widened the frame (unequal scales)
+            fig = new_figure(f"{title} projection", f"{a} (m)", f"{b} (m)", height=FRAME,
                              frame_width=FRAME, x_range=self.ranges[a], y_range=self.ranges[b])
             # undamped first and wider, damped on top: where they coincide both stay visible
             for name in ("undamped", "damped"):
@@ -170,10 +171,14 @@ class OrbitView(Viewer):
                 fig.scatter(a, b, source=self.ends[name], size=7, marker="square",
                             color=RUN_STYLES[name]["color"], legend_label=name)
             fig.scatter(a, b, source=self.start, size=9, marker="circle", fill_color="white",
-                        line_color=START_COLOR, line_width=2, legend_label="start")
+                        line_color=START_COLOR, line_width=2)
+            # a legend under the plot wider than the frame would widen the frame (unequal scales):
+            # two short entries only; start and end markers are explained above the plots
             style_legend(fig)
+            fig.legend[0].spacing = 8
+            fig.sizing_mode = "fixed"
             self.figures.append(fig)
-        self.equal = pn.widgets.Checkbox(label="same scale on all axes", value=True, margin=(6, 8),
+        self.equal = checkbox("same scale on all axes", value=True, margin=(6, 8),
                                          css_classes=["orbit-equal"])
         self.equal.param.watch(self._show, "value")
         self.notes = html_pane("", sizing_mode="stretch_width", margin=(0, 8), css_classes=["orbit-notes"])
@@ -183,7 +188,8 @@ class OrbitView(Viewer):
                    margin=0),
             self.notes,
             # a wrapping row of fixed-size plots: a stretching row would widen the square frames
-            pn.FlexBox(*[pn.pane.Bokeh(f) for f in self.figures], flex_wrap="wrap"),
+            pn.Row(*[pn.pane.Bokeh(f, sizing_mode="fixed", styles={"flex": "none"}) for f in self.figures], styles={"flex-wrap": "wrap"},
+                   sizing_mode="stretch_width", margin=0),
             sizing_mode="stretch_width", margin=0)
         state.param.watch(self._new_result, "prepared")
         self._new_result()

@@ -20,7 +20,7 @@ from ..entries import entry_to_raw
 from ..format import LENGTH_UNITS, TIME_UNITS, pick_unit, quantity_text
 from .document import apply_to_models
 from .palette import B_PALETTE, COMPONENT_PALETTE, E_PALETTE, RUN_STYLES, START_COLOR, new_figure
-from ..theme import html_pane
+from ..theme import checkbox, html_pane
 
 PLANES = {"x-y": (0, 1), "x-z": (0, 2), "y-z": (1, 2)}
 AXES = "xyz"
@@ -113,7 +113,7 @@ class FieldPreview(Viewer):
                                        css_classes=["preview-plane"])
         self.component = pn.widgets.Select(options=list(COMPONENTS), value="Bz", width=70, margin=(4, 4),
                                            css_classes=["preview-component"])
-        self.log_scale = pn.widgets.Checkbox(label="log colour for |E|, |B|", value=True, margin=(10, 8))
+        self.log_scale = checkbox("log colour for |E|, |B|", value=True, margin=(10, 8))
         self.centre = [pn.widgets.TextInput(width=92, margin=(4, 2), placeholder=a,
                                             css_classes=[f"preview-centre-{i}"]) for i, a in enumerate(AXES)]
         self.half_width = pn.widgets.TextInput(width=110, margin=(4, 4), css_classes=["preview-half-width"])

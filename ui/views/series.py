@@ -10,6 +10,7 @@ from tracker import constants
 from ..format import TIME_UNITS, energy_unit, pick_unit
 from .decimate import MAX_SERIES_BUCKETS, minmax_indices
 from .document import apply_to_models
+from ..theme import checkbox
 from .palette import RUN_LABELS, RUN_STYLES, new_figure, style_legend
 
 RUNS = ("damped", "undamped")
@@ -123,7 +124,7 @@ class SeriesView(Viewer):
             style_legend(fig)
             self.figures[column] = fig
         # a checkbox with its label: a click on the words toggles it too
-        self.log_power = pn.widgets.Checkbox(label="log scale for the Liénard power P(t)", value=False,
+        self.log_power = checkbox("log scale for the Liénard power P(t)", value=False,
                                              margin=(8, 8), css_classes=["log-power"])
         self._panes = {c: pn.pane.Bokeh(f, sizing_mode="stretch_width") for c, f in self.figures.items()}
         self._panes["power_log"].visible = False

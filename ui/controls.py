@@ -55,7 +55,7 @@ class RunControls(Viewer):
         self.status = html_pane(status_html(state), sizing_mode="stretch_width", margin=(0, 8))
         self.run.on_click(self._run_clicked)
         self.cancel.on_click(self._cancel_clicked)
-        state.param.watch(self._validity_changed, ["scenario", "error"])
+        state.param.watch(self._validity_changed, ["scenario", "error", "errors"])
         state.param.watch(self._status_changed, ["status", "status_text", "progress"])
         self._layout = pn.Column(pn.Row(self.run, self.cancel, margin=0), self.progress, self.status,
                                  self.validity, sizing_mode="stretch_width", margin=0)

@@ -224,7 +224,7 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
     proc = subprocess.Popen([sys.executable, "-m", "tracker", "lab", str(bundled_path(RING)), "--port", str(port)],
                             stdout=log, stderr=subprocess.STDOUT, cwd=ROOT)
     try:
-        wait_for_http(f"http://127.0.0.1:{port}/", timeout=60, process=proc)
+        wait_for_http(f"http://127.0.0.1:{port}/", process=proc)
         open_lab(page, f"http://127.0.0.1:{port}/")
         expect(page.locator("#scenario-title")).to_have_text(bundled_scenarios()[RING])
         expect(page.locator("#caution")).to_contain_text("not for radiation-safety or shielding decisions")

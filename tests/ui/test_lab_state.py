@@ -362,3 +362,26 @@ def test_download_keeps_units_as_entered_and_round_trips(state):
     assert 'duration = "120 fs"' in text and 'B = ["0 T", 0.0, "1.43 T"]' in text
     assert "1.2000000000000002e-13" not in text
     assert Scenario.from_toml(text).to_dict() == state.scenario.to_dict()
+
+
+def test_a_closed_tab_cancels_its_session_work_within_two_polls():
+    from types import SimpleNamespace
+
+    from ui.session import ABSENT_POLLS, SessionLink, browser_connected
+
+    server_session = SimpleNamespace(id="s1", connection_count=1)
+    context = SimpleNamespace(id="s1", server_context=SimpleNamespace(sessions=[server_session]))
+    doc = SimpleNamespace(session_context=context)
+    assert browser_connected(doc) is True and browser_connected(SimpleNamespace()) is None
+    s = long_ring_state()
+    link = SessionLink(doc=doc)
+    link.on_gone(s.cancel_run)
+    assert s.start_run()
+    link.watch(s.poll)
+    link.poll()
+    assert not s.controller.cancel_requested
+    server_session.connection_count = 0  # the tab closed
+    for _ in range(ABSENT_POLLS):
+        link.poll()
+    assert link.gone and s.controller.cancel_requested
+    assert s.wait_run(60) and s.status == "cancelled"

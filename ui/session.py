@@ -13,6 +13,7 @@ from __future__ import annotations
 from collections.abc import Callable
 
 import panel as pn
+from bokeh.document import Document
 
 #: how often a page asks its pending work for news, ms
 POLL_MS = 150
@@ -56,7 +57,7 @@ class SessionLink:
     def watch(self, poll: Callable[[], bool], finished: Callable[[], None] | None = None) -> None:
         """Poll ``poll`` until it returns True, then call ``finished``."""
         self._watched.append((poll, finished))
-        if self._callback is None and self.doc is not None and self.doc.session_context is not None:
+        if self._callback is None and isinstance(self.doc, Document) and self.doc.session_context is not None:
             self._callback = pn.state.add_periodic_callback(self.poll, period=POLL_MS)
 
     @property

@@ -6,6 +6,7 @@ would send them after making its own name resolve to 127.0.0.1.
 
 import asyncio
 import http.client
+from concurrent.futures import ThreadPoolExecutor
 
 import pytest
 from tornado.httpclient import HTTPClientError, HTTPRequest
@@ -50,7 +51,9 @@ def websocket_status(server, host, origin):
         connection.close()
         return 101
 
-    return asyncio.run(attempt())
+    # on a thread of its own: the browser tests may leave an event loop running in this one
+    with ThreadPoolExecutor(1) as pool:
+        return pool.submit(asyncio.run, attempt()).result()
 
 
 def test_host_names_are_normalised():

@@ -84,7 +84,6 @@ def start_long_run(page):
 
 #: the page's figures hold data: the summary, the four time series and an orbit path of each run
 PLOTS_DRAWN = """() => {
-    if (!document.querySelector('#sum-energy_radiated-damped')) return false;
     let series = 0, paths = 0;
     for (const d of Bokeh.documents) for (const m of d.all_models) {
         if (m.data && m.data.gamma && m.data.gamma.length > 1) series++;
@@ -103,6 +102,7 @@ def run_to_plots(page, name):
     page.locator(".run-button button").click()
     t0 = time.perf_counter()
     expect(page.locator(f'#run-status[data-runs="{runs + 1}"]')).to_be_visible(timeout=300_000)
+    expect(page.locator("#sum-energy_radiated-damped")).to_be_visible(timeout=300_000)
     page.wait_for_function(PLOTS_DRAWN, timeout=300_000)
     page.evaluate("() => new Promise(r => requestAnimationFrame(() => requestAnimationFrame(r)))")
     total = time.perf_counter() - t0

@@ -200,12 +200,27 @@ class OrbitView(Viewer):
     def _new_result(self, *_):
         prepared = self.state.prepared
         if not prepared:
+            self._clear()
             return
         suggested = prepared["orbits"]["equal"]
         if self.equal.value != suggested:
             self.equal.value = suggested  # triggers _show
         else:
             self._show()
+
+    def _clear(self):
+        """No results (another scenario was opened): empty plots, not the old orbit."""
+        self.notes.object = ""
+
+        def change():
+            for source in self.paths.values():
+                source.data = _empty_path()
+            for source in self.images.values():
+                source.data = _empty_image()
+            for source in (*self.ends.values(), self.start):
+                source.data = _empty_orbit()
+
+        apply_to_models(change)
 
     def _show(self, *_):
         prepared = self.state.prepared

@@ -149,6 +149,11 @@ class SeriesView(Viewer):
     def _show(self, *_):
         prepared = self.state.prepared
         if not prepared:
+            def clear():  # no results (another scenario was opened): empty plots, not the old run
+                for source in self.sources.values():
+                    source.data = _empty()
+
+            apply_to_models(clear)
             return
         data = prepared["series"]
 

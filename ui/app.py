@@ -7,7 +7,7 @@ tab does not hold up another.
 
 import html
 import sys
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import panel as pn
@@ -44,6 +44,7 @@ class LabContext:
 
     state: LabState
     link: SessionLink
+    views: dict = field(default_factory=dict)  #: views by name, once built (for tests and scripts)
 
 
 class Lab(Viewer):
@@ -116,9 +117,10 @@ def results_tab(context):
     def build_plots(*_):
         # the result figures are made with the first result, which keeps page loads light
         if state.prepared is not None and not plots.objects:
+            context.views.update(orbits=OrbitView(state), series=SeriesView(state))
             plots.objects = [
-                section_card("Orbit projections (zoom one, the others follow)", OrbitView(state)),
-                section_card("Time series", SeriesView(state)),
+                section_card("Orbit projections (zoom one, the others follow)", context.views["orbits"]),
+                section_card("Time series", context.views["series"]),
             ]
 
     state.param.watch(build_plots, "prepared")

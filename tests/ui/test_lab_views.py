@@ -259,7 +259,7 @@ def test_tabs_are_built_when_first_shown_and_catch_up_with_the_state():
     spectrum = lab.spectrum  # built now: shows the run that finished before it existed
     assert spectrum._comparison is lab.state.comparison
     assert not spectrum.compute_button.disabled
-    orbits = lab.tabs.built[TAB_RESULTS].objects[1].objects[0].objects[0]
+    orbits = lab.tabs.context.views["orbits"]
     assert len(orbits.paths[("damped", "x-y")].data["h"]) > 1
     lab.state.load_bundled("mirror_trap.toml")  # another scenario: the old results go everywhere
     assert lab.state.comparison is None and lab.state.status == "idle"

@@ -220,11 +220,24 @@ class BeamResult:
         return dataclasses.replace(scenario, particle=particle, beam=None, entered=entered)
 
     def warning_counts(self):
-        """{warning kind: number of particles that raised it} (warnings without a particle count once)."""
-        seen = {}
+        """{warning kind: number of particles that raised it}.
+
+        Beam warnings (``tracker.beam_validity``) carry their count in ``"particles"``
+        (None when a statistics-only run cannot tell); other warnings count their
+        distinct ``"particle"`` indices (one without an index counts once).
+        """
+        counted, seen = {}, {}
         for w in self.warnings:
-            seen.setdefault(w["kind"], set()).add(w.get("particle", -1))
-        return {kind: len(who) for kind, who in seen.items()}
+            kind = w["kind"]
+            if "particles" in w:
+                n = w["particles"]
+                counted[kind] = None if n is None or counted.get(kind, 0) is None else counted.get(kind, 0) + int(n)
+            else:
+                seen.setdefault(kind, set()).add(w.get("particle", -1))
+        out = {kind: len(who) for kind, who in seen.items()}
+        for kind, n in counted.items():
+            out[kind] = None if n is None else n + out.get(kind, 0)
+        return out
 
     def summary(self):
         """Headline numbers over the beam: energies in J, emittances in m rad, wall time s."""
@@ -251,8 +264,10 @@ class BeamResult:
             "peak_chi": float(np.nanmax(stats["max_chi"])) if len(stats.get("max_chi", ())) else float("nan"),
             "warnings": self.warning_counts(),
             "wall_time": wall,
-            "steps": steps,
-            "particle_steps_per_second": steps * self.count / wall if wall and wall > 0 else float("nan"),
+            "particle_steps": steps,
+            "lost_by_reason": dict(self.meta.get("lost", {})),
+            # meta["steps"] of a beam run is already summed over its particles (engine._meta)
+            "particle_steps_per_second": steps / wall if wall and wall > 0 else float("nan"),
         }
 
     # ------------------------------------------------------------------ files
@@ -292,6 +307,25 @@ class BeamResult:
                     g.attrs["is_dict"] = isinstance(self.photons, dict)
                     for key, values in photons.items():
                         g.create_dataset(key, data=np.asarray(values))
+        return path
+
+    def to_csv(self, path):
+        """Write the statistics per saved time as CSV (units in the header, ``#`` comments); atomic.
+
+        The per-particle arrays do not fit a table: use ``to_hdf5`` for them.
+        """
+        import csv
+
+        stats = self.statistics()
+        keys = [key for key in STAT_KEYS if key in stats]
+        with atomic_path(path) as tmp:
+            with open(tmp, "w", newline="", encoding="utf-8") as fh:
+                fh.write(f"# radorbit beam statistics: {self.count} particles; {self.scenario.title or ''}\n")
+                fh.write(f"# stop reason: {self.meta.get('stop_reason', '')}\n")
+                writer = csv.writer(fh)
+                writer.writerow([f"{key} [{STAT_KEYS[key]}]" for key in keys])
+                for row in zip(*(np.asarray(stats[key]) for key in keys)):
+                    writer.writerow([repr(float(v)) for v in row])
         return path
 
     def snapshots_to_openpmd(self, path):

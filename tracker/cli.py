@@ -128,6 +128,12 @@ def cmd_run(args):
     from . import compare, load_scenario, track
 
     scenario = _with_overrides(load_scenario(args.scenario), args)
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import run_beam
+
+        return run_beam(args, scenario)
+    if getattr(args, "snapshots", None):
+        raise ScenarioError("--snapshots", "needs a [beam] scenario (one particle has no snapshots).")
     plan = scenario.plan()
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
@@ -175,6 +181,10 @@ def cmd_check(args):
     from .plan import human_bytes
 
     scenario = _with_overrides(load_scenario(args.scenario), args)
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import check_beam
+
+        return check_beam(args, scenario)
     plan = scenario.plan()
     p = scenario.particle
     rows = [
@@ -228,6 +238,8 @@ def build_parser():
     run.add_argument("scenario", help="scenario TOML file")
     run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
     run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    run.add_argument("--snapshots", metavar="OUT.h5",
+                     help="beam: write the run.snapshots dumps as openPMD (loads back as a [beam] file)")
     add_run_overrides(run)
     run.set_defaults(func=cmd_run)
 

@@ -260,6 +260,9 @@ def _track_beam(scenario, bundle, progress, cancel):
                         lost_time=np.where(lost != LOST_NONE, state[T], np.inf), weight=weight,
                         stats=statistics_from_moments(stats), snapshots=snapshots,
                         **{name: arrays.get(name) for name in ARRAY_NAMES if name != "t"})
+    from .beam_validity import check_beam
+
+    result.warnings = check_beam(result)
     return result
 
 

@@ -338,14 +338,15 @@ def _tokamak_excess(v, x, _x0):
 def _dipole_excess(v, x, x0):
     c = np.asarray(v["center"])
     r = np.linalg.norm(x - c, axis=1)
-    r0 = float(np.linalg.norm(x0 - c))
-    frac = r / r0 if r0 > 0 else np.full(len(r), np.inf)
+    r0 = np.linalg.norm(np.asarray(x0, dtype=float) - c, axis=-1)   # (3,) -> scalar, (n, 3) -> per state
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(r0 > 0, r / np.where(r0 > 0, r0, 1.0), np.inf)
     with np.errstate(divide="ignore"):
         excess = DIPOLE_MIN_FRACTION / frac
     return excess, "distance from the centre / starting distance", frac, DIPOLE_MIN_FRACTION
 
 
-#: field type -> function(values, x (n, 3), x0 (3,)) -> (excess > 1 where outside,
+#: field type -> function(values, x (n, 3), x0 (3,) or (n, 3)) -> (excess > 1 where outside,
 #: quantity name, quantity values, limit)
 DOMAIN_CHECKS = {"mirror": _mirror_excess, "undulator": _undulator_excess, "tokamak": _tokamak_excess,
                  "dipole": _dipole_excess}

@@ -154,7 +154,12 @@ def _write_hdf5(path, datasets, attrs):
 
 def run_spectrum(args):
     """Compute, print a summary and optionally write the table; returns the exit status 0."""
+    from .beam_spectrum import is_beam, orbit_radiated_energy, require_particles
+
     result = _load(args.result)
+    beam = is_beam(result)
+    if beam:
+        require_particles(result)   # statistics-only beams: refused with the reason
     method = args.method
     if method not in DEFAULT_POINTS:
         raise ScenarioError("--method", f"must be direct, nufft or synchrotron, not {method!r}.")
@@ -167,7 +172,9 @@ def run_spectrum(args):
     omega = parse_omega_range(args.omega_range) if args.omega_range else _default_omega(result, method, directions)
     photon_ev = k.hbar * omega / k.e
     source = str(args.result)
-    print(f"spectrum of {source} ({len(result.t):,} saved states), method {method}")
+    what = (f"{len(result.t):,} saved states x {result.count:,} particles; the incoherent sum of their spectra"
+            if beam else f"{len(result.t):,} saved states")
+    print(f"spectrum of {source} ({what}), method {method}")
     print(f"omega {omega[0]:.4g} .. {omega[-1]:.4g} rad/s ({_fmt_photon(omega[0])} .. {_fmt_photon(omega[-1])}), "
           f"{len(omega)} points, log-spaced")
     if not args.omega_range and method != "synchrotron":
@@ -175,14 +182,14 @@ def run_spectrum(args):
               "resolve; track with a smaller dt and save_every = 1 to reach higher")
 
     if method == "synchrotron":
-        from .synchrotron import critical_frequency, photon_spectrum, synchrotron_spectrum
+        from .synchrotron import largest_critical_frequency, photon_spectrum, synchrotron_spectrum
 
         dw = synchrotron_spectrum(result, omega)
         dn = photon_spectrum(result, omega)
-        wc = critical_frequency(result)
+        wc = largest_critical_frequency(result)
         total = float(np.trapezoid(dw, omega))
-        print(f"largest critical photon energy {_fmt_photon(wc.max())}; "
-              f"energy in band {total:.4g} J; radiated energy of the orbit {result.radiated_energy[-1]:.4g} J; "
+        print(f"largest critical photon energy {_fmt_photon(wc)}; "
+              f"energy in band {total:.4g} J; radiated energy of the orbit {orbit_radiated_energy(result):.4g} J; "
               f"photons in band {float(np.trapezoid(dn, omega)):.4g}")
         header = ["omega_rad_s", "photon_energy_eV", "dW_domega_J_s", "dN_domega_s"]
         columns = [omega, photon_ev, dw, dn]

@@ -18,7 +18,7 @@ Counter and key layout (our choice):
 all as unsigned 64-bit integers (negative values wrap modulo 2^64, so a
 ``step = -1`` used for initial sampling is distinct from every real step).
 One Philox call gives four independent 64-bit words; ``uniform`` uses the
-first, ``uniform2`` the first two.
+first, ``uniform2`` the first two, ``uniform4`` all four.
 
 Stream numbers in use (keep them disjoint when adding a consumer):
 ``tracker.radiation.stochastic`` uses streams EMISSION_STREAM + k for its
@@ -100,6 +100,13 @@ def uniform2(seed, particle, step, stream):
     """Two independent uniforms in (0, 1) from one Philox block (the cost of one ``uniform``)."""
     w0, w1, w2, w3 = _block(seed, particle, step, stream)
     return _to_unit(w0), _to_unit(w1)
+
+
+@njit(**LEAF)
+def uniform4(seed, particle, step, stream):
+    """Four independent uniforms in (0, 1) from one Philox block."""
+    w0, w1, w2, w3 = _block(seed, particle, step, stream)
+    return _to_unit(w0), _to_unit(w1), _to_unit(w2), _to_unit(w3)
 
 
 @njit(cache=True)

@@ -3,7 +3,8 @@
 Files and the Python API share one schema::
 
     title = "optional"
-    [run]       duration, dt | steps_per_period, pusher, radiation_reaction, save_every, max_steps
+    [run]       duration, dt | steps_per_period, pusher, radiation_reaction, save_every, max_steps,
+                seed (stochastic models), photon_min_energy (photon record threshold)
     [particle]  species (+ charge_state, mass_number | mass, charge), position,
                 one of gamma | kinetic_energy | speed | momentum | u, direction
     [[field]]   type = "<registered field model>", then its parameters
@@ -35,7 +36,7 @@ SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
 SPECIES_NAMES = tuple(sp.NAMED) + ("ion", "custom")
 
 RUN_KEYS = ("duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps",
-            "adaptive", "dt_min", "dt_max")
+            "adaptive", "dt_min", "dt_max", "seed", "photon_min_energy")
 PARTICLE_KEYS = ("species", "charge_state", "mass_number", "mass", "charge", "position", "direction") + MOMENTUM_KEYS
 TOP_KEYS = ("title", "description", "run", "particle", "field")
 
@@ -54,6 +55,8 @@ class RunSpec:
     adaptive: bool = False
     dt_min: float | None = None
     dt_max: float | None = None
+    seed: int | None = None                  #: random-number seed of stochastic models (None: 0)
+    photon_min_energy: float | None = None   #: J; photons below it are not recorded (None: 0, all)
 
 
 @dataclass(frozen=True)
@@ -322,6 +325,13 @@ def _positive(value, dimension, key):
     return number
 
 
+def _non_negative(value, dimension, key):
+    number = parse_scalar(value, dimension, key)
+    if not number >= 0:
+        raise ScenarioError(key, f"must be zero or positive, not {value!r}.")
+    return number
+
+
 def _boolean(value, key):
     if not isinstance(value, bool):
         raise ScenarioError(key, f"must be true or false, not {value!r}.")
@@ -347,7 +357,12 @@ def _parse_run(raw):
         adaptive=_boolean(raw.get("adaptive", False), "run.adaptive"),
         dt_min=_positive(raw["dt_min"], "time", "run.dt_min") if "dt_min" in raw else None,
         dt_max=_positive(raw["dt_max"], "time", "run.dt_max") if "dt_max" in raw else None,
+        seed=_integer(raw["seed"], "run.seed", minimum=0) if "seed" in raw else None,
+        photon_min_energy=(_non_negative(raw["photon_min_energy"], "energy", "run.photon_min_energy")
+                           if "photon_min_energy" in raw else None),
     )
+    if run.seed is not None and run.seed >= 2**53:
+        raise ScenarioError("run.seed", f"must be below 2**53 (exact in the kernel's float64 plan row), not {run.seed!r}.")
     if not run.adaptive:
         for key in ("dt_min", "dt_max"):
             if getattr(run, key) is not None:

@@ -4,7 +4,7 @@ import json
 
 from .fields import MODELS as FIELD_MODELS
 
-RUN_UNITS = {"duration": "s", "dt": "s"}
+RUN_UNITS = {"duration": "s", "dt": "s", "photon_min_energy": "J"}
 PARTICLE_UNITS = {"position": "m", "kinetic_energy": "J", "speed": "m/s", "momentum": "kg m/s",
                   "mass": "kg", "charge": "C", "gamma": "", "u": "gamma*beta"}
 

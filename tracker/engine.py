@@ -16,9 +16,13 @@ import numpy as np
 from .compile import compile_scenario
 from .config import CHUNK_STEPS
 from .kernel import NSTAT, reduce_partials, run_blocks, run_single
+from .photons import MAX_PHOTONS, PhotonTable
+from .radiation.reaction import MODELS as RR_MODELS
+from .radiation.reaction import QUANTUM_STOCHASTIC
+from .radiation.stochastic import HEADER, PC_DROPPED, PC_DROPPED_ENERGY, PC_RECORDED, PHOTON_COUNTERS, PHOTON_FIELDS
 from .result import Result
-from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_GRID, PL_INTERVAL, PL_LAST, RUNNING, SAVED, STATUS,
-                   STEP, T, X)
+from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_DAMPING, PL_GRID, PL_INTERVAL, PL_LAST, PL_PHOTON_MIN,
+                   RUNNING, SAVED, STATUS, STEP, T, X)
 
 STOP_COMPLETED = "completed"
 STOP_CANCELLED = "cancelled"
@@ -107,12 +111,71 @@ def outside_reason(scenario, x):
     return None
 
 
-def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
+_NO_TABLE = np.zeros(HEADER)
+_NO_TABLE.setflags(write=False)
+
+
+def _emission_table(bundle):
+    """The stochastic model's table, or a stand-in of the same type for the other models."""
+    if int(bundle.plan_row[PL_DAMPING]) != QUANTUM_STOCHASTIC:
+        return _NO_TABLE
+    from .radiation.stochastic import table
+
+    return table()
+
+
+class _PhotonSink:
+    """Photon buffers for one kernel call per chunk, and the rows collected so far (block order)."""
+
+    def __init__(self, bundle, limit=None):
+        self.active = int(bundle.plan_row[PL_DAMPING]) == QUANTUM_STOCHASTIC
+        self.blocks = max(1, (bundle.count + 63) // 64)
+        self.remaining = MAX_PHOTONS if limit is None else int(limit)
+        self.rows = []
+        self.dropped = 0
+        self.dropped_energy = 0.0
+
+    def buffers(self):
+        """(photons (blocks, capacity, PHOTON_FIELDS), counters (blocks, PHOTON_COUNTERS)) for one call.
+
+        Each block gets twice its share of the photons still allowed (all of them for one
+        block): blocks fill at similar rates, so the cap is what limits, not the split.
+        """
+        capacity = 0
+        if self.active and self.remaining > 0:
+            capacity = self.remaining if self.blocks == 1 else min(self.remaining,
+                                                                   -(-2 * self.remaining // self.blocks))
+        return np.empty((self.blocks, capacity, PHOTON_FIELDS)), np.zeros((self.blocks, PHOTON_COUNTERS))
+
+    def collect(self, photons, counters):
+        for b in range(self.blocks):
+            n = int(counters[b, PC_RECORDED])
+            take = min(n, self.remaining)
+            if take:
+                self.rows.append(photons[b, :take].copy())
+            self.remaining -= take
+            self.dropped += int(counters[b, PC_DROPPED]) + (n - take)
+            self.dropped_energy += float(counters[b, PC_DROPPED_ENERGY])
+            if n > take:
+                self.dropped_energy += float(photons[b, take:n, 7].sum())
+
+    def table(self, bundle):
+        if not self.active:
+            return None
+        rows = np.concatenate(self.rows) if self.rows else np.zeros((0, PHOTON_FIELDS))
+        return PhotonTable.from_rows(rows, bundle.weight, min_energy=bundle.plan_row[PL_PHOTON_MIN],
+                                     dropped=self.dropped, dropped_energy=self.dropped_energy)
+
+
+def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True, photon_sink=None):
     """Run a compiled Bundle to the end (or until cancelled).
 
     Returns (arrays dict of (n_saved, N[, 3]) or None, statistics array (n_saved, NSTAT),
-    final state (STATE_SIZE, N), wall time s, kernel load time s).
+    final state (STATE_SIZE, N), wall time s, kernel load time s). Photons of the
+    stochastic model go to ``photon_sink`` (a ``_PhotonSink``) when given.
     """
+    sink = photon_sink or _PhotonSink(bundle)
+    qtab = _emission_table(bundle)
     state = np.array(bundle.state)  # writable copy; the Bundle stays read-only
     n = bundle.count
     single = n == 1
@@ -124,10 +187,12 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
     pieces, stat_pieces = [], []
     load_start = time.perf_counter()
     if single:
-        run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values())
+        run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values(), qtab,
+                   *_PhotonSink(bundle, 0).buffers())
     else:
         run_blocks(*table, sp, pl, state.copy(), bundle.weight, 0, math.inf, 0, True,
-                   *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)))
+                   *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)), qtab,
+                   *_PhotonSink(bundle, 0).buffers())
     load_time = time.perf_counter() - load_start
     start = time.perf_counter()
     slot_base = 0
@@ -146,11 +211,13 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
         buffers = _buffers(capacity, n) if (store_all or single) else _buffers(1, 1)
         blocks = (n + 63) // 64
         partials = np.zeros((blocks, capacity, NSTAT))
+        photons, counters = sink.buffers()
         if single:
-            run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values())
+            run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values(), qtab, photons, counters)
         else:
             run_blocks(*table, sp, pl, state, bundle.weight, call_steps, call_stop, slot_base, store_all,
-                       *buffers.values(), partials)
+                       *buffers.values(), partials, qtab, photons, counters)
+        sink.collect(photons, counters)
         saved = int(np.max(state[SAVED])) - slot_base
         if store_all or single:
             pieces.append({name: a[:saved] for name, a in buffers.items()})
@@ -209,7 +276,8 @@ def track(scenario, progress=None, cancel=None):
     bundle = compile_scenario(scenario)
     if getattr(scenario, "beam", None) is not None:
         return _track_beam(scenario, bundle, progress, cancel)
-    arrays, _, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel)
+    sink = _PhotonSink(bundle)
+    arrays, _, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel, photon_sink=sink)
     stop, lost = _stop_reason(scenario, bundle, state)
     if lost[0] == LOST_DOMAIN:
         stop = f"{STOP_LEFT_DOMAIN}: {outside_reason(scenario, state[X:X + 3, 0])} (run stopped, last good state kept)"
@@ -218,6 +286,7 @@ def track(scenario, progress=None, cancel=None):
         one = _initial_record(scenario, bundle)   # failed on the first step: keep the valid start
     meta = _meta(scenario, bundle, state, stop, wall, load_time)
     result = Result(scenario=scenario, meta=meta, **{name: np.ascontiguousarray(one[name]) for name in ARRAY_NAMES})
+    result.photons = sink.table(bundle)
     _attach_warnings(result)
     return result
 
@@ -226,7 +295,8 @@ def _track_beam(scenario, bundle, progress, cancel):
     from .beam_result import BeamResult
 
     store_all = getattr(scenario.run, "save", "all") == "all"
-    arrays, stats, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel, store_all)
+    sink = _PhotonSink(bundle)
+    arrays, stats, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel, store_all, sink)
     stop, lost = _stop_reason(scenario, bundle, state)
     meta = _meta(scenario, bundle, state, stop, wall, load_time)
     meta["lost"] = {LOST_REASONS[c]: int(np.sum(lost == c)) for c in LOST_REASONS if np.any(lost == c)}
@@ -236,6 +306,9 @@ def _track_beam(scenario, bundle, progress, cancel):
                         lost_time=np.where(lost != LOST_NONE, state[T], np.nan),
                         stats=statistics_from_moments(stats),
                         **{name: arrays.get(name) for name in ARRAY_NAMES if name != "t"})
+    result.photons = sink.table(bundle)
+    for warning in photon_warnings(result.photons):
+        result.warnings.append(warning)
     return result
 
 
@@ -268,10 +341,21 @@ def statistics_from_moments(stats):
 
 
 def _attach_warnings(result):
-    """Validity checks after every run (tracker.validity)."""
+    """Validity checks after every run (tracker.validity), and the photon cap."""
     from .validity import check_result
 
-    result.warnings = check_result(result)
+    result.warnings = check_result(result) + photon_warnings(getattr(result, "photons", None))
+
+
+def photon_warnings(photons):
+    """'photons' warning when photons above photon_min_energy were not kept (the MAX_PHOTONS cap)."""
+    if photons is None or photons.dropped == 0:
+        return []
+    return [{"kind": "photons", "time": float(photons.t[-1]) if len(photons) else 0.0,
+             "message": (f"{photons.dropped} photons above photon_min_energy were not recorded: the run keeps at most "
+                         f"{MAX_PHOTONS} photons ({MAX_PHOTONS * 80 / 1e6:.0f} MB). Their energy "
+                         f"({photons.dropped_energy:.4g} J) is still in radiated_energy. Raise run.photon_min_energy "
+                         "or shorten the run to record them all.")}]
 
 
 def _initial_record(scenario, bundle):

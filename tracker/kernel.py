@@ -213,12 +213,16 @@ def reduce_partials(partials, n_used, out):
 
 @njit(parallel=True, **KERNEL)
 def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot_base, store_all,
-               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials):
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials,
+               qtab, photons, counters):
     """Advance every running particle by up to ``n_steps`` steps, or until its time reaches ``t_stop`` (s).
 
     Saved states go to slot ``saved - 1 - slot_base`` of the chunk: the full arrays
     (``out_*``, shapes (slots, N) and (slots, N, 3)) when ``store_all``, and always the
-    block partials (blocks, slots, NSTAT). Units: SI; u = gamma beta.
+    block partials (blocks, slots, NSTAT). Units: SI; u = gamma beta. Photons of the
+    stochastic model go to ``photons[block]`` (blocks, capacity, PHOTON_FIELDS), counted in
+    ``counters[block]``; particles of a block run in a fixed order, so the photon list is
+    the same for any thread count.
     """
     n = state.shape[1]
     n_blocks = (n + BLOCK - 1) // BLOCK
@@ -237,7 +241,7 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                 x = state[X, j]
                 y = state[X + 1, j]
                 z = state[X + 2, j]
-                r = advance(kinds, params, data, sp, pl, state, j)
+                r = advance(kinds, params, data, sp, pl, state, j, qtab, photons, counters, b)
                 if r[0]:
                     slot = int(state[SAVED, j]) - 1 - slot_base
                     if slot + 1 > used:
@@ -273,7 +277,8 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
 
 @njit(**KERNEL)
 def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
-               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi):
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi,
+               qtab, photons, counters):
     """``run_blocks`` for one particle (column 0 of ``state``), without blocks or statistics."""
     for _ in range(n_steps):
         if state[STATUS, 0] != RUNNING:
@@ -281,7 +286,7 @@ def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
         x = state[X, 0]
         y = state[X + 1, 0]
         z = state[X + 2, 0]
-        r = advance(kinds, params, data, sp, pl, state, 0)
+        r = advance(kinds, params, data, sp, pl, state, 0, qtab, photons, counters, 0)
         if r[0]:
             slot = int(state[SAVED, 0]) - 1 - slot_base
             out_t[slot, 0] = r[1]

@@ -20,10 +20,14 @@ Leapfrog layout: x at integer steps, u = gamma v/c at half steps. Step n of part
    Integration", 2nd ed., sec. II.5 and II.3: the adjoint method and symmetric
    composition, from memory). Each half kick acts along the momentum it is evaluated
    at, so a magnetic rotation does not shorten the friction by cos(theta/2);
+   Stochastic model (``quantum-stochastic``): the kicks act only below CHI_STOCHASTIC_MIN;
+   at or above it, photons are sampled over the push interval (centred on t^n) at the
+   synchronous state's chi and taken from u^{n+1/2} (``radiation.stochastic.emit_step``);
 4. diagnostics at t^n: the synchronous state gamma = (gamma^{n-1/2} + gamma^{n+1/2})/2
    with u along u^{n-1/2} + u^{n+1/2} (rescaled to that gamma), Lienard power (times
-   g(chi) for the quantum-corrected model), chi, q E.v; cumulative radiated energy
-   and field work by the trapezoidal rule;
+   g(chi) for the quantum-corrected and stochastic models: the mean power), chi, q E.v;
+   cumulative radiated energy and field work by the trapezoidal rule (a step's photon
+   energy counted half at t^n and half at t^{n+1}, as the synchronous gamma sees it);
 5. x^{n+1} = x^n + c dt^n u^{n+1/2}/gamma^{n+1/2}.
 
 A particle stops (its status code says why) on a non-finite value, or when the
@@ -42,22 +46,24 @@ from .fields.evaluate import field_at
 from .pushers.dispatch import push
 from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
 from .radiation.quantum import gaunt_factor
-from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, radiation_kick
+from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, QUANTUM_STOCHASTIC, radiation_kick
+from .radiation.stochastic import CHI_STOCHASTIC_MIN, emit_step
 from .timescales import fastest_rate
 
 # ---------------------------------------------------------------- state slots (rows of a (STATE_SIZE, N) array)
 X, U, T, RAD, WORK, PPREV, WPREV, EPREV, BPREV = 0, 3, 6, 7, 8, 9, 10, 11, 14
 STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22
-STATE_SIZE = 23
+PHPREV = 23   # photon energy (J) emitted in the previous step (stochastic model)
+STATE_SIZE = 24
 
 # ---------------------------------------------------------------- species row
-SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE = range(5)
-SPECIES_SIZE = 5
+SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE, SP_RATE = range(6)
+SPECIES_SIZE = 6
 
 # ---------------------------------------------------------------- plan row
 (PL_DT, PL_LAST, PL_SAVE, PL_PUSHER, PL_DAMPING, PL_ADAPTIVE, PL_SPP, PL_DTMIN, PL_DTMAX, PL_TEND,
- PL_GRID, PL_INTERVAL, PL_SEED) = range(13)
-PLAN_SIZE = 13
+ PL_GRID, PL_INTERVAL, PL_SEED, PL_PHOTON_MIN) = range(14)
+PLAN_SIZE = 14
 
 # ---------------------------------------------------------------- particle status codes
 RUNNING, FINISHED, NONFINITE, KICK_TOO_LARGE = 0, 1, 2, 3
@@ -68,8 +74,12 @@ KICK_LIMIT = 0.1
 
 
 @njit(**LEAF)
-def advance(kinds, params, data, sp, pl, state, j):
+def advance(kinds, params, data, sp, pl, state, j, qtab, photons, counters, block):
     """Advance particle ``j`` of ``state`` by one step (see the module docstring).
+
+    ``qtab``, ``photons``, ``counters`` and ``block`` serve the stochastic model only: the
+    emission table (``radiation.stochastic.table()``), this run's photon buffers and the
+    row of them that particle ``j``'s block writes (see ``radiation.stochastic.emit_step``).
 
     Returns (saved, t, usx, usy, usz, gamma, power, chi, dt): ``saved`` is True when the
     synchronous state at t (s) was recorded (u = gamma beta, power W, chi, dt s). The
@@ -156,6 +166,27 @@ def advance(kinds, params, data, sp, pl, state, j):
             state[STATUS, j] = KICK_TOO_LARGE
             return False, t, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, dt
 
+    # stochastic photon emission over the push interval centred on t^n, at the synchronous state
+    photon_energy = 0.0
+    emitting = False
+    if damping == QUANTUM_STOCHASTIC:
+        g_pre = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
+        gs_pre = 0.5 * (g_old + g_pre)
+        sx = ux + nux
+        sy = uy + nuy
+        sz = uz + nuz
+        s2 = sx * sx + sy * sy + sz * sz
+        scale = math.sqrt((gs_pre * gs_pre - 1.0) / (s2 * gs_pre * gs_pre)) if s2 > 0.0 else 0.0
+        chi_pre = chi_parameter(cscale, gs_pre, transverse_force_squared(sx * scale, sy * scale, sz * scale,
+                                                                         ex, ey, ez, bx, by, bz))
+        if chi_pre >= CHI_STOCHASTIC_MIN:
+            emitting = True
+            rest_energy = sp[SP_CHARGE] / qm * k.c * k.c
+            eps, nux, nuy, nuz = emit_step(qtab, int(pl[PL_SEED]), j, step, gs_pre, chi_pre, ux, uy, uz,
+                                           nux, nuy, nuz, dt_push, sp[SP_RATE], t, x, y, z, rest_energy,
+                                           pl[PL_PHOTON_MIN], not finished, photons, counters, block)
+            photon_energy = eps * rest_energy
+
     # diagnostics at t^n
     g_new = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
     gs = 0.5 * (g_old + g_new)
@@ -170,17 +201,22 @@ def advance(kinds, params, data, sp, pl, state, j):
     f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
     power = lienard_power(sp[SP_POWER], gs, f2)
     chi = chi_parameter(cscale, gs, f2)
-    if damping == LANDAU_LIFSHITZ_QUANTUM:
+    if damping == LANDAU_LIFSHITZ_QUANTUM or damping == QUANTUM_STOCHASTIC:
         power *= gaunt_factor(chi)
+    # the power the radiated-energy integral counts: none while photons carry the loss
+    counted = 0.0 if emitting else power
     if not math.isfinite(power + g_new):
         # NaN or Inf from the fields or the push: stop before saving, keep the last good state
         state[STATUS, j] = NONFINITE
         return False, t, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, dt
     work_rate = sp[SP_CHARGE] * k.c * (ex * betax + ey * betay + ez * betaz)
     if step > 0:
-        state[RAD, j] += 0.5 * dt_prev * (power + state[PPREV, j])
+        # photon energy enters like the power, half with each neighbouring synchronous state: the
+        # synchronous gamma averages the half steps before and after this step's emissions
+        state[RAD, j] += 0.5 * dt_prev * (counted + state[PPREV, j]) + 0.5 * (photon_energy + state[PHPREV, j])
         state[WORK, j] += 0.5 * dt_prev * (work_rate + state[WPREV, j])
-    state[PPREV, j] = power
+    state[PPREV, j] = counted
+    state[PHPREV, j] = photon_energy
     state[WPREV, j] = work_rate
 
     recorded = save or finished

@@ -65,7 +65,7 @@ import numpy as np
 from numba import njit, prange
 
 from .. import constants as k
-from ..config import LEAF
+from ..config import KERNEL, LEAF
 from ..rng import EMISSION_STREAM, uniform4
 
 #: largest emission probability of one sub-step. The photon-number variance is low by this
@@ -259,9 +259,13 @@ def _row_ln_y(tab, row, r):
     return lny0 + h * (lo + (target - a) / (b - a))
 
 
-@njit(**LEAF)
+@njit(**KERNEL)
 def sample_fraction(tab, chi, r):
-    """Photon energy fraction delta in (0, 1) for a uniform r in (0, 1) (inverse CDF of the spectrum)."""
+    """Photon energy fraction delta in (0, 1) for a uniform r in (0, 1) (inverse CDF of the spectrum).
+
+    Not inlined (KERNEL options): it runs once per photon, and inlining its two table
+    searches into every kernel that steps particles would multiply their compile time.
+    """
     i, f = _chi_position(tab, chi)
     lny = _row_ln_y(tab, i, r)
     if f > 0.0:
@@ -386,3 +390,72 @@ def sample_fractions(tab, chi, r):
     for i in range(r.shape[0]):
         out[i] = sample_fraction(tab, chi, r[i])
     return out
+
+
+# photon record layout: one row of PHOTON_FIELDS float64 per photon (see tracker.photons)
+PH_T, PH_X, PH_P, PH_ENERGY, PH_PARTICLE = 0, 1, 4, 7, 8
+PHOTON_FIELDS = 9
+# per-block photon counters: recorded, not recorded for lack of room, and their energy (J)
+PC_RECORDED, PC_DROPPED, PC_DROPPED_ENERGY = 0, 1, 2
+PHOTON_COUNTERS = 3
+
+
+@njit(**LEAF)
+def emit_step(tab, seed, particle, step, gamma, chi, ax, ay, az, ux, uy, uz, dt, unit,
+              t_mid, x, y, z, rest_energy, min_energy, record, photons, counters, block):
+    """All emission events of one step of one particle; returns (total photon energy / m c^2, ux, uy, uz).
+
+    The step's emission interval is dt (s) centred on t_mid (s), where the particle is at
+    (x, y, z) (m) with Lorentz factor gamma and quantum parameter chi; (ax, ay, az) and
+    (ux, uy, uz) are gamma beta at the start and end of the interval, the end one being the
+    momentum the photons are taken from. Each photon leaves along the momentum direction
+    interpolated to its emission time. With ``record``, photons of energy >= min_energy (J)
+    go to ``photons[block, n]`` (PH_* columns: t s, x m, p kg m/s, energy J, particle index)
+    while there is room, else they are counted in ``counters[block]`` (PC_* slots).
+    After each emission gamma falls by the photon energy and chi with it (chi ~ gamma at
+    fixed fields and direction).
+    """
+    total = 0.0
+    elapsed = 0.0
+    t_left = dt
+    g = gamma
+    c_now = chi
+    event = 0
+    while t_left > 0.0:
+        hit, t_emit, t_used, ux, uy, uz, eps = emit(tab, seed, particle, step, event, g, c_now, ux, uy, uz,
+                                                     t_left, unit)
+        if not hit:
+            break
+        if record:
+            energy = eps * rest_energy
+            if energy >= min_energy:
+                n = int(counters[block, PC_RECORDED])
+                if n < photons.shape[1]:
+                    when = elapsed + t_emit
+                    nx, ny, nz = photon_direction(ax, ay, az, ux, uy, uz, when / dt)
+                    speed = k.c * math.sqrt(1.0 - 1.0 / (g * g)) if g > 1.0 else 0.0
+                    shift = (when - 0.5 * dt) * speed
+                    momentum = energy / k.c
+                    row = photons[block, n]
+                    row[PH_T] = t_mid - 0.5 * dt + when
+                    row[PH_X] = x + nx * shift
+                    row[PH_X + 1] = y + ny * shift
+                    row[PH_X + 2] = z + nz * shift
+                    row[PH_P] = momentum * nx
+                    row[PH_P + 1] = momentum * ny
+                    row[PH_P + 2] = momentum * nz
+                    row[PH_ENERGY] = energy
+                    row[PH_PARTICLE] = particle
+                    counters[block, PC_RECORDED] = n + 1
+                else:
+                    counters[block, PC_DROPPED] += 1.0
+                    counters[block, PC_DROPPED_ENERGY] += energy
+        total += eps
+        c_now = c_now * (g - eps) / g
+        g -= eps
+        event += 1
+        t_left -= t_used
+        elapsed += t_used
+        if g <= 1.0:
+            break
+    return total, ux, uy, uz

@@ -39,12 +39,50 @@ LOST_REASONS = {LOST_NONFINITE: STOP_NONFINITE, LOST_KICK: STOP_KICK, LOST_MAX_S
 ARRAY_NAMES = ("t", "dt", "x", "u", "gamma", "power", "radiated_energy", "field_work", "chi")
 
 
+#: every radiation-reaction model, in the order comparisons list them
+MODEL_ORDER = ("none", "landau-lifshitz", "landau-lifshitz-quantum", "quantum-stochastic")
+
+
 @dataclass
 class Comparison:
-    """The same scenario with (``damped``) and without (``undamped``) radiation reaction."""
+    """The same scenario run with several radiation-reaction models.
 
-    damped: object
-    undamped: object
+    ``results`` maps model name -> Result (or BeamResult), in ``MODEL_ORDER``;
+    ``damped`` is the damped run of the classic pair (the scenario's model, or
+    Landau-Lifshitz when it had none) and ``undamped`` the run without radiation reaction,
+    when those models were run (None otherwise).
+    """
+
+    damped: object = None
+    undamped: object = None
+    results: dict = None
+
+    def __post_init__(self):
+        if self.results is None:
+            self.results = {}
+            for result in (self.undamped, self.damped):
+                if result is not None:
+                    self.results[result.scenario.run.radiation_reaction] = result
+        if self.undamped is None:
+            self.undamped = self.results.get("none")
+
+    @property
+    def models(self):
+        """Model names run, in ``MODEL_ORDER``."""
+        return list(self.results)
+
+    def __getitem__(self, model):
+        return self.results[model]
+
+    def energy_radiated(self):
+        """Energy radiated per model (J, weighted sum for a beam): {model: J}."""
+        out = {}
+        for model, result in self.results.items():
+            if hasattr(result, "radiated_energy") and getattr(result, "stats", None) is None:
+                out[model] = float(result.radiated_energy[-1])
+            else:
+                out[model] = float(result.stats["radiated_energy"][-1])
+        return out
 
 
 def _is_cancelled(cancel):
@@ -381,13 +419,37 @@ def damped_and_undamped(scenario):
     return damped, scenario.with_run(radiation_reaction="none")
 
 
-def compare(scenario, progress=None, cancel=None):
-    """Run the scenario with and without radiation reaction, side by side on two threads.
+def compare(scenario, models=None, progress=None, cancel=None):
+    """Run the scenario with each radiation-reaction model, side by side on up to two threads.
 
-    ``progress`` receives the mean fraction done of the two runs; ``cancel`` stops both.
+    Parameters
+    ----------
+    scenario : Scenario
+    models : sequence of str, optional
+        Names from ``tracker.radiation.reaction.MODELS`` (any order; run and listed in
+        ``MODEL_ORDER``). Default: the damped/undamped pair -- the scenario's model (or
+        ``landau-lifshitz`` when it has none) and ``none``.
+    progress : callable(fraction), optional -- mean fraction done of the runs
+    cancel : threading.Event or callable, optional -- stops every run
+
+    Returns
+    -------
+    Comparison -- ``.results[model]``; ``.damped``/``.undamped`` for the default pair
     """
-    damped, undamped = damped_and_undamped(scenario)
-    fractions = [0.0, 0.0]
+    from .errors import ScenarioError
+
+    if models is None:
+        damped, undamped = damped_and_undamped(scenario)
+        runs = [damped, undamped]
+    else:
+        names = list(dict.fromkeys(models))
+        unknown = [m for m in names if m not in RR_MODELS]
+        if unknown or not names:
+            raise ScenarioError("models", f"must name models from {', '.join(MODEL_ORDER)}, not {list(models)!r}.")
+        names.sort(key=MODEL_ORDER.index)
+        runs = [scenario if scenario.run.radiation_reaction == m else scenario.with_run(radiation_reaction=m)
+                for m in names]
+    fractions = [0.0] * len(runs)
 
     def reporter(i):
         if progress is None:
@@ -395,11 +457,15 @@ def compare(scenario, progress=None, cancel=None):
 
         def report(fraction):
             fractions[i] = fraction
-            progress(0.5 * (fractions[0] + fractions[1]))
+            progress(sum(fractions) / len(fractions))
 
         return report
 
     with ThreadPoolExecutor(max_workers=2) as pool:
-        jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate((damped, undamped))]
+        jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate(runs)]
         results = [job.result() for job in jobs]
-    return Comparison(damped=results[0], undamped=results[1])
+    if models is None:
+        return Comparison(damped=results[0], undamped=results[1])
+    by_model = {r.scenario.run.radiation_reaction: r for r in results}
+    damped_model = scenario.run.radiation_reaction if scenario.run.radiation_reaction != "none" else "landau-lifshitz"
+    return Comparison(damped=by_model.get(damped_model), undamped=by_model.get("none"), results=by_model)

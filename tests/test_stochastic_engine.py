@@ -53,19 +53,19 @@ def test_same_seed_same_run_and_different_seeds_differ():
 
 
 def test_photon_min_energy_filters_the_record_but_not_the_loss():
-    full = track(uniform_b(seed=9))
+    full = track(uniform_b(seed=9, duration=1.5e-14))
     cut = float(np.median(full.photons.energy))
-    part = track(uniform_b(seed=9, photon_min_energy=cut))
+    part = track(uniform_b(seed=9, duration=1.5e-14, photon_min_energy=cut))
     assert np.array_equal(full.gamma, part.gamma)
     assert np.array_equal(part.photons.energy, full.photons.energy[full.photons.energy >= cut])
     assert part.photons.min_energy == cut
 
 
 def test_mean_loss_over_seeds_matches_the_quantum_corrected_model():
-    # ensemble over 300 seeds against landau-lifshitz-quantum (Gaunt-factor fit within 1.4 % of the
+    # ensemble over 200 seeds against landau-lifshitz-quantum (Gaunt-factor fit within 1.4 % of the
     # exact power, tracker/radiation/quantum.py): the mean losses agree within the statistical error
     # plus the fit's 1.4 %
-    losses = np.array([GAMMA0 - track(uniform_b(seed=s)).gamma[-1] for s in range(300)])
+    losses = np.array([GAMMA0 - track(uniform_b(seed=s)).gamma[-1] for s in range(200)])
     mean_field = GAMMA0 - track(uniform_b(model="landau-lifshitz-quantum")).gamma[-1]
     err = losses.std() / math.sqrt(len(losses))
     assert abs(losses.mean() - mean_field) < 4.0 * err + 0.014 * mean_field
@@ -123,7 +123,7 @@ def test_openpmd_photons_read_back_with_openpmd_api(tmp_path):
 
 
 def test_histograms_carry_poisson_errors_and_the_classical_spectrum_shares_the_axes():
-    r = track(uniform_b(seed=3, duration=4e-15, save_every=1))
+    r = track(uniform_b(seed=3, duration=1.5e-14, save_every=1))
     h = photon_energy_histogram(r, np.geomspace(1e-3, 1.0, 8) * GAMMA0 * k.m_e * k.c**2)
     inside = (r.photons.energy >= h.edges[0]) & (r.photons.energy < h.edges[-1])
     assert h.counts.sum() == inside.sum()
@@ -131,6 +131,7 @@ def test_histograms_carry_poisson_errors_and_the_classical_spectrum_shares_the_a
     e = photon_energy_histogram(r, h.edges, weighted_by_energy=True)
     assert np.sum(e.density * np.diff(e.edges)) == pytest.approx(r.photons.energy[inside].sum(), rel=1e-12)
     a = photon_angular_histogram(r)
-    assert np.sum(a.density * 2 * np.pi * (np.cos(a.edges[:-1]) - np.cos(a.edges[1:]))) == pytest.approx(len(r.photons))
+    solid = 2 * np.pi * (np.cos(a.edges[:-1]) - np.cos(a.edges[1:]))
+    assert np.sum(a.density * solid) == pytest.approx(len(r.photons), rel=1e-6)
     dn, de = classical_photon_spectrum(r, h.centers)
     assert np.all(dn > 0) and np.allclose(de, dn * h.centers)

@@ -16,6 +16,10 @@ from .. import constants as k
 from ..errors import ScenarioError
 
 
+#: smallest default polar-angle range (rad) when every photon flies along the axis
+MIN_ANGLE_RANGE = 1e-6
+
+
 @dataclass
 class Histogram:
     """Bin edges and per-bin densities with standard errors (units in each function's docstring)."""
@@ -97,9 +101,10 @@ def angular_distribution(result_or_table, axis=None, edges=None, weighted_by_ene
     axis = axis / np.linalg.norm(axis)
     theta = np.arccos(np.clip(d @ axis, -1.0, 1.0))
     if edges is None:
-        edges = np.linspace(0.0, max(float(theta.max()), 1e-12) * (1 + 1e-9), 61)
+        edges = np.linspace(0.0, max(float(theta.max()), MIN_ANGLE_RANGE) * (1 + 1e-9), 61)
     edges = np.asarray(edges, dtype=float)
-    solid = 2.0 * np.pi * (np.cos(edges[:-1]) - np.cos(edges[1:]))
+    # cos a - cos b = 2 sin((a + b)/2) sin((b - a)/2): no cancellation for narrow bins near the axis
+    solid = 4.0 * np.pi * np.sin(0.5 * (edges[1:] + edges[:-1])) * np.sin(0.5 * (edges[1:] - edges[:-1]))
     w = photons.weight * (photons.energy if weighted_by_energy else 1.0)
     total = np.histogram(theta, bins=edges, weights=w)[0]
     square = np.histogram(theta, bins=edges, weights=w * w)[0]

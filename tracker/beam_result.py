@@ -130,7 +130,8 @@ class BeamResult:
     weight : ndarray (N,) -- real particles per tracked particle
     stats : dict of (n_saved,) arrays (keys of ``STAT_KEYS``) computed by the engine
     snapshots : list of (time s, x (N, 3) m, u (N, 3), weight (N,)) -- the run.snapshots dumps
-    scenario, meta, warnings, photons : as for ``Result`` (photons: None or a dict of arrays)
+    scenario, meta, warnings, photons : as for ``Result`` (photons: a ``tracker.photons.PhotonTable``
+        for the quantum-stochastic model, None otherwise)
     """
 
     t: np.ndarray
@@ -301,7 +302,9 @@ class BeamResult:
                     g.create_dataset("x", data=x).attrs["unit"] = "m"
                     g.create_dataset("u", data=u).attrs["unit"] = PARTICLE_ARRAYS["u"]
                     g.create_dataset("weight", data=weight).attrs["unit"] = "1"
-                if self.photons is not None:
+                if hasattr(self.photons, "to_group"):      # tracker.photons.PhotonTable
+                    self.photons.to_group(h5.create_group("photons"))
+                elif self.photons is not None:
                     photons = self.photons if isinstance(self.photons, dict) else {"data": self.photons}
                     g = h5.create_group("photons")
                     g.attrs["is_dict"] = isinstance(self.photons, dict)
@@ -356,7 +359,11 @@ def load_beam_result(path):
             g = h5["snapshots"][j]
             snapshots.append((float(g.attrs["time"]), g["x"][()], g["u"][()], g["weight"][()]))
         photons = None
-        if "photons" in h5:
+        if "photons" in h5 and "min_energy" in h5["photons"].attrs:
+            from .photons import PhotonTable
+
+            photons = PhotonTable.from_group(h5["photons"])
+        elif "photons" in h5:
             g = h5["photons"]
             photons = {key: g[key][()] for key in g}
             if not g.attrs.get("is_dict", True):

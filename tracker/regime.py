@@ -200,8 +200,9 @@ def regime_rows(scenario):
                      f"at the end if P ~ gamma^2 (from {r['gamma0']:.4g})"))
     if r["chi"] > CHI_QUANTUM:
         rows.append(("quantum regime",
-                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: use radiation_reaction = \"landau-lifshitz-quantum\"; "
-                     "stochastic emission is not modelled by this tool"))
+                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: radiation_reaction = \"landau-lifshitz-quantum\" for "
+                     "the mean loss, \"quantum-stochastic\" for the spread and the photons"
+                     + ("; pair creation (chi >= 1) is not modelled" if r["chi"] >= 1.0 else "")))
     name, reason = r["pusher"]
     current = scenario.run.pusher
     rows.append(("recommended pusher", f"{name}" + ("" if name == current else f" (now {current})") + f": {reason}"))

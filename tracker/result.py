@@ -43,6 +43,8 @@ class Result:
     scenario : Scenario
     meta : dict -- steps, wall_time (s), stop_reason, complete, ...
     warnings : list of dict -- kind, message, time (s)
+    photons : PhotonTable or None -- photons recorded by the ``quantum-stochastic`` model
+        (tracker.photons); None for the continuous models
     """
 
     t: np.ndarray
@@ -57,6 +59,7 @@ class Result:
     scenario: object
     meta: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
+    photons: object = None
 
     # ------------------------------------------------------------------ derived
     @property
@@ -128,6 +131,8 @@ class Result:
                 for name, unit in ARRAYS.items():
                     ds = h5.create_dataset(name, data=getattr(self, name))
                     ds.attrs["unit"] = unit
+                if self.photons is not None:
+                    self.photons.to_group(h5.create_group("photons"))
         return path
 
     def to_csv(self, path):
@@ -168,4 +173,9 @@ def load_result(path):
         scenario = Scenario.from_toml(str(h5.attrs["scenario_toml"]))
         meta = json.loads(h5.attrs["meta_json"])
         warnings = json.loads(h5.attrs["warnings_json"])
-    return Result(scenario=scenario, meta=meta, warnings=warnings, **arrays)
+        photons = None
+        if "photons" in h5:
+            from .photons import PhotonTable
+
+            photons = PhotonTable.from_group(h5["photons"])
+    return Result(scenario=scenario, meta=meta, warnings=warnings, photons=photons, **arrays)

@@ -4,7 +4,8 @@ Files and the Python API share one schema::
 
     title = "optional"
     [run]       duration, dt | steps_per_period, pusher, radiation_reaction, save_every, max_steps,
-                save = "all" | "statistics", snapshots = [times]
+                save = "all" | "statistics", snapshots = [times],
+                seed (stochastic models), photon_min_energy (photon record threshold)
     [particle]  species (+ charge_state, mass_number | mass, charge), position,
                 one of gamma | kinetic_energy | speed | momentum | u, direction
     [beam]      instead of [particle]: the [particle] keys for the centroid, then count, seed,
@@ -60,6 +61,8 @@ class RunSpec:
     dt_max: float | None = None
     save: str = "all"
     snapshots: tuple = ()  #: times (s) of full particle dumps
+    seed: int | None = None                  #: random-number seed of stochastic models (None: 0)
+    photon_min_energy: float | None = None   #: J; photons below it are not recorded (None: 0, all)
 
 
 @dataclass(frozen=True)
@@ -396,6 +399,8 @@ def _parse_run(raw):
     if "dt" in raw and "steps_per_period" in raw:
         raise ScenarioError("run.dt", "give either dt or steps_per_period, not both.")
     run = RunSpec(**_parse_inputs(raw, inputs.RUN, "run"))
+    if run.seed is not None and run.seed >= 2**53:
+        raise ScenarioError("run.seed", f"must be below 2**53 (exact in the kernel's float64 plan row), not {run.seed!r}.")
     if not run.adaptive:
         for key in ("dt_min", "dt_max"):
             if getattr(run, key) is not None:

@@ -13,7 +13,8 @@ resolution
     ``MAX_LOSS_PER_STEP`` of the energy in one step.
 quantum
     The quantum parameter chi exceeds ``CHI_QUANTUM``: classical emission is
-    wrong and emission is stochastic, which this tool does not model.
+    wrong and emission is stochastic (use ``quantum-stochastic``); at chi above
+    ``CHI_PAIRS`` pair creation by the emitted photons matters, which no model here includes.
 radiation-dominated
     R_c = alpha a0 chi >= 1 in a laser (Di Piazza et al. 2012), or the particle
     radiates more than its energy per period of its motion.
@@ -57,6 +58,9 @@ MAX_LOSS_PER_STEP = 0.01
 #: chi above which quantum emission matters: g(0.1) = 0.65, and emission is
 #: stochastic (Ridgers et al. 2017; Niel et al. 2018; common practice).
 CHI_QUANTUM = 0.1
+#: chi from which the photons' own chi is of order one and pair creation by them (nonlinear
+#: Breit-Wheeler) matters (Di Piazza et al. 2012, from memory; common practice).
+CHI_PAIRS = 1.0
 #: R_c = alpha a0 chi at which radiation reaction dominates (Di Piazza et al. 2012).
 R_C_DOMINATED = 1.0
 #: energy radiated per period of the motion, as a fraction of the energy, at which the
@@ -232,6 +236,11 @@ def check_resolution(result, rates, good):
         energy = result.gamma * result.rest_energy
         loss = np.zeros(len(dt))
         ok = good & (dt > 0) & (energy > 0)
+        if result.scenario.run.radiation_reaction == "quantum-stochastic":
+            # photons are sampled with sub-steps there, not applied as a split kick
+            from .radiation.stochastic import CHI_STOCHASTIC_MIN
+
+            ok &= result.chi < CHI_STOCHASTIC_MIN
         loss[ok] = result.power[ok] * dt[ok] / energy[ok]
         worst = int(np.argmax(loss))
         if loss[worst] > MAX_LOSS_PER_STEP:
@@ -257,6 +266,14 @@ def check_quantum(result, good):
         return []
     g = gaunt_factor(chi_max)
     model = result.scenario.run.radiation_reaction
+    pairs = (f" At chi >= {CHI_PAIRS:g} the emitted photons themselves have chi of order one and a fraction of "
+             "them would create electron-positron pairs (nonlinear Breit-Wheeler; Di Piazza et al. 2012, from "
+             "memory): pair creation is not modelled, so photon numbers and the energy balance are upper "
+             "bounds there." if chi_max >= CHI_PAIRS else "")
+    if model == "quantum-stochastic":
+        if not pairs:
+            return []
+        return [warning("quantum", f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s." + pairs, result.t[i])]
     if model == "landau-lifshitz-quantum":
         what = (f"the corrected-classical model already scales the emitted power by g(chi) = {g:.3g} there, "
                 "but it keeps emission continuous: it misses the stochastic photon emission that broadens "
@@ -265,12 +282,11 @@ def check_quantum(result, good):
         what = (f"the classical emitted power is {1.0 / g:.3g} times the quantum one there (g(chi) = {g:.3g}); "
                 "use radiation_reaction = \"landau-lifshitz-quantum\" for the mean loss. Emission is also "
                 "stochastic (energy spread, straggling)")
-    pairs = " At chi >~ 1 photons may also turn into pairs (from memory: Di Piazza et al. 2012)." if chi_max >= 1 else ""
     return [warning(
         "quantum",
-        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. A stochastic "
-        "(Monte-Carlo) emission treatment is needed for quantitative results; this tool does not provide "
-        "one." + pairs,
+        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. For the energy "
+        "spread, straggling and the photon spectrum use radiation_reaction = \"quantum-stochastic\" "
+        "(Monte-Carlo photon emission, tracker.radiation.stochastic)." + pairs,
         result.t[i])]
 
 

@@ -120,6 +120,7 @@ def track(scenario, progress=None, cancel=None):
     """
     plan = scenario.plan()
     kinds, params = scenario.field_table
+    data = scenario.field_data
     state = initial_state(scenario, plan.dt)
     species = species_row(scenario)
     row = plan_row(scenario, plan)
@@ -129,12 +130,12 @@ def track(scenario, progress=None, cancel=None):
     stop = STOP_COMPLETED
     # a zero-step call loads (or compiles) the kernel, so wall_time measures the run alone
     load_start = time.perf_counter()
-    run_chunk(kinds, params, species, row, state, 0, *_buffers(1).values())
+    run_chunk(kinds, params, data, species, row, state, 0, *_buffers(1).values())
     load_time = time.perf_counter() - load_start
     start = time.perf_counter()
     while True:
         buffers = _buffers(capacity)
-        saved, status = run_chunk(kinds, params, species, row, state, chunk, *buffers.values())
+        saved, status = run_chunk(kinds, params, data, species, row, state, chunk, *buffers.values())
         pieces.append({name: a[:saved] for name, a in buffers.items()})
         if progress is not None:
             progress(_fraction_done(state, plan, scenario))

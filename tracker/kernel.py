@@ -31,6 +31,9 @@ from numba import njit
 from . import constants as k
 from .config import KERNEL
 from .fields.evaluate import field_at
+from .fields.expression import EXPRESSION, OMEGA_SLOT as EXPRESSION_OMEGA
+from .fields.fieldmap import FIELD_MAP, OMEGA_SLOT as MAP_OMEGA
+from .fields.gaussian_beam import GAUSSIAN_BEAM
 from .fields.laser import PLANE_WAVE
 from .fields.undulator import UNDULATOR
 from .pushers.dispatch import push
@@ -58,7 +61,7 @@ COOLING_RESOLUTION = 10.0
 
 
 @njit(**KERNEL)
-def local_step(kinds, params, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, steps_per_period, dt_min, dt_max,
+def local_step(kinds, params, data, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, steps_per_period, dt_min, dt_max,
                cooling_rate):
     """dt (s) resolving the fastest local time scale by ``steps_per_period``, within [dt_min, dt_max].
 
@@ -74,8 +77,12 @@ def local_step(kinds, params, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, 
     if omega_e > omega:
         omega = omega_e
     for i in range(kinds.shape[0]):
-        if kinds[i] == PLANE_WAVE:
+        if kinds[i] == PLANE_WAVE or kinds[i] == GAUSSIAN_BEAM:  # both keep omega, n in slots 1..4
             w = params[i, 1] * (1.0 - (params[i, 2] * bx + params[i, 3] * by + params[i, 4] * bz))
+        elif kinds[i] == FIELD_MAP:
+            w = params[i, MAP_OMEGA]
+        elif kinds[i] == EXPRESSION:
+            w = params[i, EXPRESSION_OMEGA]
         elif kinds[i] == UNDULATOR:
             w = params[i, 1] * k.c * abs(bz)
         else:
@@ -93,7 +100,7 @@ def local_step(kinds, params, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, 
 
 
 @njit(**KERNEL)
-def run_chunk(kinds, params, species, plan, state, n_steps,
+def run_chunk(kinds, params, data, species, plan, state, n_steps,
               out_t, out_x, out_u, out_gamma, out_power, out_radiated, out_work, out_chi, out_dt):
     """Advance ``state`` by up to ``n_steps`` steps, writing saved states from index 0.
 
@@ -136,14 +143,14 @@ def run_chunk(kinds, params, species, plan, state, n_steps,
     g_old = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)  # then carried from the position update
 
     for _ in range(n_steps):
-        ex, ey, ez, bx, by, bz = field_at(kinds, params, x, y, z, t)
+        ex, ey, ez, bx, by, bz = field_at(kinds, params, data, x, y, z, t)
         finished = step == last_step
         if adaptive:
             cooling = 0.0
             if damping != NONE:
                 f2_old = transverse_force_squared(ux / g_old, uy / g_old, uz / g_old, ex, ey, ez, bx, by, bz)
                 cooling = pscale * g_old * f2_old / rest_energy  # P/(gamma m c^2)
-            dt = local_step(kinds, params, qm, g_old, ux / g_old, uy / g_old, uz / g_old,
+            dt = local_step(kinds, params, data, qm, g_old, ux / g_old, uy / g_old, uz / g_old,
                             ex, ey, ez, bx, by, bz, spp, dt_min, dt_max, cooling)
             if t + dt >= t_end:
                 dt = t_end - t

@@ -14,7 +14,7 @@ Numbers are SI; strings carry units ("1.5 T", "0.8 um", "30 fs", "2 GeV").
 import dataclasses
 import math
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, field as dataclass_field
 from functools import cached_property
 from pathlib import Path
 
@@ -22,7 +22,7 @@ import numpy as np
 
 from . import constants as k
 from . import species as sp
-from .config import DEFAULT_MAX_STEPS, FIELD_PARAMS
+from .config import DATA_OFFSET_SLOT, DEFAULT_MAX_STEPS, FIELD_PARAMS
 from .errors import ScenarioError
 from .fields import MODELS as FIELD_MODELS
 from .fields.base import ABSENT, REQUIRED, unit_vector
@@ -122,11 +122,18 @@ class Scenario:
     fields: tuple = ()
     title: str = ""
     description: str = ""
+    #: directory that relative file names (field maps) are resolved against; not part of
+    #: the scenario's content (equal scenarios may live in different directories)
+    base_dir: str | None = dataclass_field(default=None, compare=False)
 
     # ------------------------------------------------------------------ building
     @classmethod
-    def from_dict(cls, data):
-        """Validate a nested dict (as read from TOML) into a Scenario; raises ScenarioError."""
+    def from_dict(cls, data, base_dir=None):
+        """Validate a nested dict (as read from TOML) into a Scenario; raises ScenarioError.
+
+        ``base_dir`` (str or Path) is where relative file names (field maps) are looked
+        up; ``load_scenario`` passes the scenario file's directory. None: the current one.
+        """
         if not isinstance(data, dict):
             raise ScenarioError("", f"a scenario is a table of keys, not {type(data).__name__}.")
         _reject_unknown(data, TOP_KEYS, "")
@@ -145,21 +152,22 @@ class Scenario:
         scenario = cls(
             run=_parse_run(_table(data["run"], "run")),
             particle=_parse_particle(_table(data["particle"], "particle")),
-            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i) for i, f in enumerate(raw_fields)),
+            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i, base_dir) for i, f in enumerate(raw_fields)),
             title=data.get("title", ""),
             description=data.get("description", ""),
+            base_dir=None if base_dir is None else str(base_dir),
         )
         scenario.plan()  # resolution and size checks belong to validation
         return scenario
 
     @classmethod
-    def from_toml(cls, text):
-        """Parse TOML text; syntax errors become ScenarioError."""
+    def from_toml(cls, text, base_dir=None):
+        """Parse TOML text; syntax errors become ScenarioError. ``base_dir`` as in ``from_dict``."""
         try:
             data = tomllib.loads(text)
         except tomllib.TOMLDecodeError as exc:
             raise ScenarioError("", f"not valid TOML: {exc}") from None
-        return cls.from_dict(data)
+        return cls.from_dict(data, base_dir=base_dir)
 
     def to_dict(self):
         """Plain nested dict in SI; ``from_dict(to_dict())`` gives an equal Scenario."""
@@ -181,10 +189,8 @@ class Scenario:
         if p.direction is not None:
             particle["direction"] = list(p.direction)
         out["particle"] = particle
-        out["field"] = [
-            {"type": f.type, **{name: list(v) if isinstance(v, tuple) else v for name, v in f.values}}
-            for f in self.fields
-        ]
+        out["field"] = [{"type": f.type, **{name: _raw_value(f.model.param(name), v) for name, v in f.values}}
+                        for f in self.fields]
         return out
 
     def to_toml(self):
@@ -199,19 +205,53 @@ class Scenario:
 
     def with_run(self, **changes):
         """A copy with [run] entries changed, re-validated (e.g. ``radiation_reaction="none"``)."""
-        return Scenario.from_dict(_merge(self.to_dict(), "run", changes))
+        return Scenario.from_dict(_merge(self.to_dict(), "run", changes), base_dir=self.base_dir)
 
     # ------------------------------------------------------------------ compiled form
     @cached_property
-    def field_table(self):
-        """(kinds int64 (n,), params float64 (n, FIELD_PARAMS)) for the kernels."""
+    def _compiled_fields(self):
         kinds = np.zeros(len(self.fields), dtype=np.int64)
         params = np.zeros((len(self.fields), FIELD_PARAMS), dtype=np.float64)
+        blocks = []
+        offset = 0
         for i, f in enumerate(self.fields):
             row = f.model.pack(f.params)
+            if len(row) > DATA_OFFSET_SLOT:
+                raise ValueError(f"{f.type}: pack() uses {len(row)} slots, at most {DATA_OFFSET_SLOT}.")
             kinds[i] = f.model.code
             params[i, : len(row)] = row
+            if f.model.data is not None:
+                block = np.asarray(f.model.data(f.params, self.base_dir), dtype=np.float64)
+                params[i, DATA_OFFSET_SLOT] = float(offset)
+                blocks.append(block)
+                offset += block.size
+        if not blocks:
+            data = np.zeros(1)
+        elif len(blocks) == 1:
+            data = blocks[0]  # a single (large) map is used as loaded, without a copy
+        else:
+            data = np.concatenate(blocks)
+        return kinds, params, data
+
+    @property
+    def field_table(self):
+        """(kinds int64 (n,), params float64 (n, FIELD_PARAMS)) for the kernels."""
+        kinds, params, _ = self._compiled_fields
         return kinds, params
+
+    @property
+    def field_data(self):
+        """The 1-D float64 bulk-data array of the field table (maps, expression programs)."""
+        return self._compiled_fields[2]
+
+    @property
+    def field_data_bytes(self):
+        """Bytes the field models' bulk data will take (from file headers; nothing loaded)."""
+        total = 0
+        for f in self.fields:
+            if f.model.data_bytes is not None:
+                total += int(f.model.data_bytes(f.params, self.base_dir))
+        return total
 
     def fields_at(self, x, t):
         """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
@@ -220,8 +260,8 @@ class Scenario:
         """
         from .fields.evaluate import evaluate
 
-        kinds, params = self.field_table
-        return evaluate(kinds, params, x, t)
+        kinds, params, data = self._compiled_fields
+        return evaluate(kinds, params, data, x, t)
 
     def plan(self):
         """The run plan (dt, steps, saved states, memory); raises ScenarioError if too large."""
@@ -241,7 +281,7 @@ def load_scenario(path):
         text = path.read_text(encoding="utf-8")
     except OSError as exc:
         raise ScenarioError("", f"cannot read scenario file {str(path)!r}: {exc.strerror}.") from None
-    return Scenario.from_toml(text)
+    return Scenario.from_toml(text, base_dir=path.resolve().parent)
 
 
 # ---------------------------------------------------------------------- parsing helpers
@@ -402,7 +442,14 @@ def _parse_particle(raw):
     )
 
 
-def _parse_field(raw, index):
+def _raw_value(param, value):
+    """A parsed field value as a scenario file holds it (lists for vectors, a table for tables)."""
+    if param.kind == "table":
+        return dict(value)
+    return list(value) if isinstance(value, tuple) else value
+
+
+def _parse_field(raw, index, base_dir=None):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
@@ -421,4 +468,6 @@ def _parse_field(raw, index):
             values.append((param.name, param.default))
     if model.check is not None:
         model.check(dict(values), key)
+    if model.resolve is not None:
+        model.resolve(dict(values), key, base_dir)
     return FieldSpec(model.name, tuple(values))

@@ -91,7 +91,7 @@ def warning(kind, message, time):
 
 
 @njit(**KERNEL)
-def local_rates(kinds, params, qm, x, t, u, gamma, lasers, undulators, out):
+def local_rates(kinds, params, data, qm, x, t, u, gamma, lasers, undulators, out):
     """Angular rates (rad/s) of the local time scales at saved states.
 
     Parameters
@@ -110,7 +110,7 @@ def local_rates(kinds, params, qm, x, t, u, gamma, lasers, undulators, out):
         inside the undulator].
     """
     for i in range(x.shape[0]):
-        f = field_at(kinds, params, x[i, 0], x[i, 1], x[i, 2], t[i])
+        f = field_at(kinds, params, data, x[i, 0], x[i, 1], x[i, 2], t[i])
         g = gamma[i]
         out[i, 0] = abs(qm) * math.sqrt(f[3] * f[3] + f[4] * f[4] + f[5] * f[5]) / g
         out[i, 1] = abs(qm) * math.sqrt(f[0] * f[0] + f[1] * f[1] + f[2] * f[2]) / (g * k.c)
@@ -120,7 +120,7 @@ def local_rates(kinds, params, qm, x, t, u, gamma, lasers, undulators, out):
         wl = 0.0
         for j in range(lasers.shape[0]):
             r = int(lasers[j, 0])
-            fl = field_at(kinds[r:r + 1], params[r:r + 1], x[i, 0], x[i, 1], x[i, 2], t[i])
+            fl = field_at(kinds[r:r + 1], params[r:r + 1], data, x[i, 0], x[i, 1], x[i, 2], t[i])
             if math.sqrt(fl[0] * fl[0] + fl[1] * fl[1] + fl[2] * fl[2]) >= LASER_PRESENT * lasers[j, 5]:
                 w = lasers[j, 1] * (1.0 - (lasers[j, 2] * bx + lasers[j, 3] * by + lasers[j, 4] * bz))
                 if w > wl:
@@ -168,7 +168,7 @@ def rates_along(result):
     undulators = np.array(und, dtype=np.float64).reshape(-1, 4)
     p = scenario.particle
     out = np.zeros((len(result.t), 4))
-    local_rates(kinds, params, p.charge / p.mass, np.ascontiguousarray(result.x, dtype=np.float64),
+    local_rates(kinds, params, scenario.field_data, p.charge / p.mass, np.ascontiguousarray(result.x, dtype=np.float64),
                 np.ascontiguousarray(result.t, dtype=np.float64), np.ascontiguousarray(result.u, dtype=np.float64),
                 np.ascontiguousarray(result.gamma, dtype=np.float64), lasers, undulators, out)
     return out

@@ -12,7 +12,7 @@ UNDULATOR = 4
 
 
 @njit(**LEAF)
-def undulator_field(p, i, x, y, z, t):
+def undulator_field(p, i, data, x, y, z, t):
     """Planar undulator, axis z, field along y (H. Wiedemann, Particle Accelerator Physics, chapter on insertion devices; from memory).
 
     Inside start <= z <= start + length (s = z - start, k = 2 pi/period):

@@ -24,6 +24,7 @@ STOP_COMPLETED = "completed"
 STOP_CANCELLED = "cancelled"
 STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
 STOP_MAX_STEPS = "max_steps reached before the end of the run"
+STOP_OUTSIDE = "left a field's domain"
 
 
 @dataclass
@@ -144,7 +145,7 @@ def track(scenario, progress=None, cancel=None):
                 stop = STOP_MAX_STEPS
             break
         if status == NONFINITE:
-            stop = STOP_NONFINITE
+            stop = _outside_reason(scenario, state[ST_X:ST_X + 3]) or STOP_NONFINITE
             break
         if _is_cancelled(cancel):
             stop = STOP_CANCELLED
@@ -172,6 +173,18 @@ def track(scenario, progress=None, cancel=None):
     result = Result(scenario=scenario, meta=meta, **arrays)
     _attach_warnings(result)
     return result
+
+
+def _outside_reason(scenario, x):
+    """'left a field's domain: field[i] ...' when a model with an ``outside`` hook says x (m) is
+    outside its domain (its NaN stopped the run), else None."""
+    for i, f in enumerate(scenario.fields):
+        if f.model.outside is None:
+            continue
+        reason = f.model.outside(f.params, tuple(float(c) for c in x), scenario.base_dir)
+        if reason:
+            return f"{STOP_OUTSIDE}: field[{i}] ({f.type}) {reason}"
+    return None
 
 
 def _attach_warnings(result):

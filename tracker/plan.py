@@ -60,12 +60,14 @@ def time_scales(scenario):
         scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * bmag), "relativistic gyration at the start"))
     for i, f in enumerate(scenario.fields):
         v = f.params
-        if f.type == "plane-wave":
+        if f.type in ("plane-wave", "gaussian-beam"):
             from .fields.laser import polarization_vectors
 
             n, _, _ = polarization_vectors(v)
             doppler = 1.0 - float(beta @ n)
             scales.append((v["wavelength"] / (k.c * doppler), f"field[{i}] laser period seen by the particle"))
+        elif f.type in ("field-map", "expression") and v["frequency"] != 0.0:
+            scales.append((1.0 / abs(v["frequency"]), f"field[{i}] period of its time dependence"))
         elif f.type == "undulator":
             if abs(v["B0"]) > 0:
                 scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * abs(v["B0"])),
@@ -95,7 +97,8 @@ def make_plan(scenario):
     steps = max(1, math.ceil(run.duration / dt_wanted * (1.0 - 1e-12)))
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
-    memory = saved * BYTES_PER_SAVED_STATE
+    # saved states plus the fields' bulk data (maps, formula programs), which stays loaded for the run
+    memory = saved * BYTES_PER_SAVED_STATE + scenario.field_data_bytes
     if steps > run.max_steps:
         raise ScenarioError(
             "run.max_steps",

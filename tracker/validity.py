@@ -142,7 +142,7 @@ def laser_rows(scenario):
 
     rows = []
     for i, f in enumerate(scenario.fields):
-        if f.type != "plane-wave":
+        if f.type not in ("plane-wave", "gaussian-beam"):
             continue
         v = f.params
         omega = 2.0 * math.pi * k.c / v["wavelength"]
@@ -188,7 +188,7 @@ def check_result(result):
         ``{"kind": str, "message": str, "time": float (s)}``, kinds "resolution",
         "quantum", "radiation-dominated", "domain", "nonfinite".
     """
-    found = check_nonfinite(result)
+    found = check_nonfinite(result) + check_outside(result) + field_advice(result.scenario)
     good = _finite_states(result)
     if not np.any(good):
         return found
@@ -198,6 +198,28 @@ def check_result(result):
         found += check_quantum(result, good)
         found += check_radiation_dominated(result, rates, good)
         found += check_domain(result, good)
+    return found
+
+
+def check_outside(result):
+    """'domain' when the run stopped because the particle left a field's domain (e.g. a map's grid)."""
+    reason = str(result.meta.get("stop_reason", ""))
+    if not reason.startswith("left a field's domain"):
+        return []
+    t_last = float(result.t[-1]) if len(result.t) else 0.0
+    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {reason.split(': ', 1)[-1]}. The states up "
+                              "to there are kept; enlarge the map or choose outside = \"zero\" to continue "
+                              "without the field.", t_last)]
+
+
+def field_advice(scenario):
+    """Warnings the field models give before any run (``FieldModel.advice``), at t = 0."""
+    found = []
+    for i, f in enumerate(scenario.fields):
+        if f.model.advice is None:
+            continue
+        for kind, message in f.model.advice(f.params, scenario):
+            found.append(warning(kind, f"field[{i}] ({f.model.label}): {message}", 0.0))
     return found
 
 

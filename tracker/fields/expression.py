@@ -395,10 +395,12 @@ def compile_formula(text, parameters=None):
     try:
         tree = ast.parse(text.strip(), mode="eval")
     except SyntaxError as exc:
-        column = exc.offset or 0
-        reason = (exc.msg or "invalid syntax").split(" (")[0]
-        raise FormulaError(f"syntax error: {reason}", column if column <= len(text.strip()) + 1 else 0,
-                           text.strip()) from None
+        stripped = text.strip()
+        column = min(exc.offset or len(stripped) + 1, len(stripped) + 1)
+        reason = exc.msg or "invalid syntax"
+        if not exc.offset:
+            reason += " (the formula ends too early)"
+        raise FormulaError(f"syntax error: {reason}", column, stripped) from None
     except (RecursionError, MemoryError, ValueError, OverflowError):
         raise FormulaError(f"the formula is too deeply nested or too large to read (at most {MAX_DEPTH} levels)") \
             from None
@@ -525,12 +527,12 @@ def _advice(v, scenario=None):
     out = []
     where = f"on a {CHECK_POINTS}^3 grid of half-width {size:.3g} m about {list(center)}"
     if div_b > DIVERGENCE_TOLERANCE:
-        out.append(("maxwell", f"the B formulas are not divergence-free: |div B| reaches {div_b:.2g} of the field "
-                               f"gradient {where}. A physical magnetic field has div B = 0; the orbit may show "
+        out.append(("maxwell", f"the B formulas are not divergence-free: |div B| reaches {div_b:.2g} times the "
+                               f"largest field gradient {where}. A physical magnetic field has div B = 0; the orbit may show "
                                "spurious drifts."))
     if static and curl_e > DIVERGENCE_TOLERANCE:
-        out.append(("maxwell", f"the static E formulas are not curl-free: |curl E| reaches {curl_e:.2g} of the field "
-                               f"gradient {where}. A static electric field has curl E = 0 (Faraday's law); "
+        out.append(("maxwell", f"the static E formulas are not curl-free: |curl E| reaches {curl_e:.2g} times the "
+                               f"largest field gradient {where}. A static electric field has curl E = 0 (Faraday's law); "
                                "the particle can gain energy around closed loops."))
     return out
 

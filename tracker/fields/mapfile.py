@@ -74,7 +74,7 @@ class MapData:
     origin, spacing : tuple of floats (m), one per grid axis (3 or 2)
     shape : tuple of ints, nodes per axis
     groups : tuple of the group names present, in block order (subset of GROUPS)
-    block : 1-D float64 array (read-only): header, then 3 components per group, each C order over ``shape``
+    block : 1-D float64 array (treat as read-only): header, then 3 components per group, each C order over ``shape``
     """
 
     geometry: str
@@ -140,7 +140,8 @@ def load_map(name, base_dir=None, key="file"):
             raise ScenarioError(key, f"unknown field-map file type {path.suffix!r}; use .h5 (HDF5) or .csv.")
     except OSError as exc:
         raise ScenarioError(key, f"cannot read field map {name!r}: {exc}.") from None
-    data.block.flags.writeable = False
+    # the block stays writeable: numba compiles a separate specialisation for read-only arrays,
+    # and the one-kernel rule wants the same array type for every scenario. Nothing writes to it.
     with _cache_lock:
         _cache[token] = data
         while len(_cache) > CACHE_SIZE:

@@ -16,6 +16,14 @@ from .units import parse_scalar
 CHUNK_POINTS = 1_000_000
 
 
+def _length(text, key):
+    """A plain number (m) or a length with units ('1cm')."""
+    try:
+        return parse_scalar(float(text), "length", key)
+    except ValueError:
+        return parse_scalar(text, "length", key)
+
+
 def parse_grid(specs):
     """['x=-1cm:1cm:21', 'y=...', 'z=...'] or ['r=0:1cm:11', 'z=...'] -> (geometry, {axis: 1-D array in m})."""
     axes = {}
@@ -26,8 +34,7 @@ def parse_grid(specs):
         parts = rest.split(":")
         if not sep or name not in ("x", "y", "z", "r") or len(parts) != 3:
             raise ScenarioError(key, "write each axis as name=low:high:count, e.g. x=-1cm:1cm:21 (names x, y, z or r, z).")
-        low = parse_scalar(parts[0], "length", key)
-        high = parse_scalar(parts[1], "length", key)
+        low, high = (_length(part, key) for part in parts[:2])
         try:
             count = int(parts[2])
         except ValueError:

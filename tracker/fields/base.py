@@ -117,9 +117,13 @@ def parse_any_quantity(value, key):
         from ..units import registry
 
         try:
-            number = float(registry().Quantity(value.strip()).to_base_units().magnitude)
+            quantity = registry().Quantity(value.strip()).to_base_units()
         except Exception as exc:  # pint raises several unrelated types for bad text
             raise ScenarioError(key, f"cannot read {value!r} as a quantity ({exc}).") from None
+        if any(power != int(power) for power in quantity.dimensionality.values()):
+            # pint's gauss, statvolt, ... are Gaussian-CGS units with half-integer dimensions
+            raise ScenarioError(key, f"{value!r} is in a Gaussian-CGS unit; give it in SI units (e.g. '0.2 T').")
+        number = float(quantity.magnitude)
     else:
         number = float(value)
     if not math.isfinite(number):

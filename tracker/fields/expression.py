@@ -267,7 +267,10 @@ class _Compiler:
         self.uses_time = False
 
     def fail(self, node, message):
-        raise FormulaError(message, getattr(node, "col_offset", -1) + 1, self.text)
+        column = getattr(node, "col_offset", -1) + 1
+        if isinstance(node, ast.Attribute):  # point at ".name", not at what precedes it
+            column = node.value.end_col_offset + 1
+        raise FormulaError(message, column, self.text)
 
     def emit(self, op, arg=0.0, change=0):
         self.code.append((float(op), float(arg)))
@@ -282,7 +285,7 @@ class _Compiler:
         if isinstance(node, ast.Constant):
             value = node.value
             if isinstance(value, bool) or not isinstance(value, (int, float)):
-                self.fail(node, f"only numbers are allowed here, not {value!r}")
+                self.fail(node, f"only real numbers are allowed here, not {value!r}")
             try:
                 number = float(value)
             except OverflowError:
@@ -364,17 +367,51 @@ class _Compiler:
             self.fail(node, f"{_describe(node)} is not allowed")
 
     def _check_exponent(self, node):
-        value = node
-        if isinstance(value, ast.UnaryOp) and isinstance(value.op, (ast.USub, ast.UAdd)):
-            value = value.operand
-        if isinstance(value, ast.Constant) and isinstance(value.value, (int, float)) \
-                and not isinstance(value.value, bool):
-            try:
-                too_big = abs(float(value.value)) > MAX_EXPONENT
-            except OverflowError:
-                too_big = True
-            if too_big:
-                self.fail(node, f"exponent too large (|exponent| <= {MAX_EXPONENT:g})")
+        value = _constant_value(node)
+        if value is not None and not abs(value) <= MAX_EXPONENT:
+            self.fail(node, f"exponent too large (|exponent| <= {MAX_EXPONENT:g})")
+
+
+def _constant_value(node, level=0):
+    """Float value of a subtree made of number literals only (else None); inf when it overflows.
+
+    Used only to bound exponents such as 9**9**9 before anything runs; evaluated with float
+    arithmetic on already-parsed literals, never with eval, and cut off at MAX_EXPONENT.
+    """
+    if level > MAX_DEPTH:
+        return None
+    if isinstance(node, ast.Constant):
+        if isinstance(node.value, bool) or not isinstance(node.value, (int, float)):
+            return None
+        try:
+            return float(node.value)
+        except OverflowError:
+            return math.inf
+    if isinstance(node, ast.UnaryOp) and isinstance(node.op, (ast.USub, ast.UAdd)):
+        inner = _constant_value(node.operand, level + 1)
+        return None if inner is None else (-inner if isinstance(node.op, ast.USub) else inner)
+    if isinstance(node, ast.BinOp) and type(node.op) in BINARY_OPS:
+        left = _constant_value(node.left, level + 1)
+        right = _constant_value(node.right, level + 1)
+        if left is None or right is None:
+            return None
+        try:
+            if isinstance(node.op, ast.Pow):
+                if not abs(right) <= MAX_EXPONENT:
+                    return math.inf
+                return float(abs(left) ** right)
+            if isinstance(node.op, ast.Add):
+                return left + right
+            if isinstance(node.op, ast.Sub):
+                return left - right
+            if isinstance(node.op, ast.Mult):
+                return left * right
+            if isinstance(node.op, ast.Div):
+                return left / right
+            return left - right * math.floor(left / right)  # ast.Mod, as the stack machine does
+        except (OverflowError, ZeroDivisionError, ValueError):
+            return math.inf
+    return None
 
 
 def compile_formula(text, parameters=None):

@@ -102,8 +102,10 @@ FORMULAS = st.recursive(_leaf(), _grow, max_leaves=12)
 
 def evaluate_formula(text, point, t, parameters):
     block, _ = compile_components({"Ez": text}, parameters)
-    params = np.zeros((1, 24))
-    e, _ = evaluate(np.array([EXPRESSION]), params, block, np.array([point], dtype=float), t)
+    kinds, params = np.array([EXPRESSION]), np.zeros((1, 24))
+    for a in (kinds, params, block):  # read-only like a Scenario's field table (same compiled evaluator)
+        a.setflags(write=False)
+    e, _ = evaluate(kinds, params, block, np.array([point], dtype=float), t)
     return e[0, 2]
 
 

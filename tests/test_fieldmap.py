@@ -186,7 +186,7 @@ def test_leaving_the_grid_stops_with_the_reason_or_continues_without_field(tmp_p
               {"duration": 5e-9, "dt": 1e-11, "radiation_reaction": "none"}, tmp_path)
     r = track(s)
     if outside == "stop":
-        assert r.meta["stop_reason"].startswith("left a field's domain: field[0] (field-map)")
+        assert r.meta["stop_reason"].startswith("left the domain of a field model: field[0]: left the field map")
         assert "z = 0.001" in r.meta["stop_reason"]
         assert r.x[-1, 2] <= 1e-3 * (1 + 1e-9) and r.t[-1] == pytest.approx(1e-9, abs=2e-11)  # 1 mm at 1e6 m/s
         assert any(w["kind"] == "domain" and "box.h5" in w["message"] for w in r.warnings)
@@ -204,7 +204,7 @@ def test_relative_paths_follow_the_scenario_file_and_the_map_loads_once(tmp_path
     again = s.with_run(radiation_reaction="none")
     block = load_map("box.h5", tmp_path).block
     # the tracked data array is the cached block itself: loaded once, never copied per scenario or step
-    assert s.field_data is block and again.field_data is block
+    assert s.field_table[2] is block and again.field_table[2] is block
     assert s.plan().memory_bytes >= block.nbytes
     assert Scenario.from_toml(s.to_toml(), base_dir=tmp_path) == s
 

@@ -18,6 +18,8 @@ LEAF = dict(KERNEL, inline="always")
 
 #: parameter slots per field component in the field table.
 FIELD_PARAMS = 24
+#: the last slot of a row holds the offset of the row's block in the bulk ``data`` array
+DATA_OFFSET_SLOT = FIELD_PARAMS - 1
 
 #: slot of a field row holding the start of the model's block in the bulk ``data``
 #: array (as a float); pack() may use slots 0 .. FIELD_PARAMS - 2.

@@ -70,6 +70,7 @@ class FieldModel:
     doc: str = ""
     check: object = None  #: optional values dict, key prefix -> None; raises ScenarioError
     domain: object = None  #: optional values dict -> (kind, description) of validity limits
+    rate_label: str = ""   #: names the model's own time scale (``rate`` leaf in its module), "" if none
     #: optional (values, key, base_dir) -> None: validates what lies outside the scenario
     #: (map files, formulas); raises ScenarioError. base_dir resolves relative paths.
     resolve: object = None
@@ -78,8 +79,8 @@ class FieldModel:
     data: object = None
     #: optional (values, base_dir) -> int: bytes of the bulk-data block (for the plan's memory).
     data_bytes: object = None
-    #: optional (values, x (3,) m) -> str | None: why the model returns NaN there (the
-    #: particle left its domain), so the engine can name the reason of a stop.
+    #: optional (values, x (3,) m, base_dir) -> str | None: why the model returns NaN there
+    #: (the particle left its domain), so the engine can name the reason of a stop.
     outside: object = None
     #: optional (values, scenario) -> [(kind, message)]: advice known before a run (e.g. a
     #: beam waist below the paraxial limit, a formula field that is not divergence-free).

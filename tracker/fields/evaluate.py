@@ -1,32 +1,77 @@
-"""The one field dispatcher every kernel uses: sum of all components of a field table."""
+"""The field dispatchers every kernel uses: the sum of all rows of a field table, and their time scales.
+
+A field table is three arrays: ``kinds`` (int64, one kind code per row), ``params``
+(float64, one row of ``config.FIELD_PARAMS`` slots per component) and ``data``
+(float64, 1-D bulk data such as field maps; a row finds its block through the offset
+in ``params[i, DATA_OFFSET_SLOT]``). Both dispatchers switch on the kind code; an
+unknown code gives NaN (the particle stops as non-finite), never a silent zero.
+``tracker.compile`` refuses such a table before it reaches a kernel.
+"""
+
+import math
 
 import numpy as np
 from numba import njit
 
 from ..config import KERNEL, LEAF
-from .expression import EXPRESSION, expression_field
-from .fieldmap import FIELD_MAP, field_map_field
-from .gaussian_beam import GAUSSIAN_BEAM, gaussian_beam_field
-from .laser import PLANE_WAVE, plane_wave_field
+from .expression import EXPRESSION, expression_field, expression_rate
+from .fieldmap import FIELD_MAP, field_map_field, field_map_rate
+from .gaussian_beam import GAUSSIAN_BEAM, gaussian_beam_field, gaussian_beam_rate
+from .laser import PLANE_WAVE, plane_wave_field, plane_wave_rate
 from .static import DIPOLE, MIRROR, UNIFORM, dipole_field, mirror_field, uniform_field
 from .tokamak import TOKAMAK, tokamak_field
-from .undulator import UNDULATOR, undulator_field
+from .undulator import UNDULATOR, undulator_field, undulator_rate
 
-NAN = float("nan")
+#: kind code -> evaluator name, for the registry test (every code reachable, none twice)
+EVALUATORS = {UNIFORM: "uniform_field", PLANE_WAVE: "plane_wave_field", UNDULATOR: "undulator_field",
+              MIRROR: "mirror_field", DIPOLE: "dipole_field", TOKAMAK: "tokamak_field",
+              FIELD_MAP: "field_map_field", GAUSSIAN_BEAM: "gaussian_beam_field", EXPRESSION: "expression_field"}
+#: kind code -> rate leaf name for the models that have their own time scale
+RATES = {PLANE_WAVE: "plane_wave_rate", UNDULATOR: "undulator_rate", FIELD_MAP: "field_map_rate",
+         GAUSSIAN_BEAM: "gaussian_beam_rate", EXPRESSION: "expression_rate"}
+
+
+@njit(**LEAF)
+def field_row(kinds, params, data, i, x, y, z, t):
+    """E (V/m) and B (T) of table row ``i`` at (x, y, z) m, t s; NaN for an unknown kind."""
+    kind = kinds[i]
+    p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
+    # one exit: several returns defeat numba's reference-count pruning (an atomic op per array per call)
+    if kind == UNIFORM:
+        f = uniform_field(p, i, data, x, y, z, t)
+    elif kind == PLANE_WAVE:
+        f = plane_wave_field(p, i, data, x, y, z, t)
+    elif kind == UNDULATOR:
+        f = undulator_field(p, i, data, x, y, z, t)
+    elif kind == MIRROR:
+        f = mirror_field(p, i, data, x, y, z, t)
+    elif kind == DIPOLE:
+        f = dipole_field(p, i, data, x, y, z, t)
+    elif kind == TOKAMAK:
+        f = tokamak_field(p, i, data, x, y, z, t)
+    elif kind == FIELD_MAP:
+        f = field_map_field(p, i, data, x, y, z, t)
+    elif kind == GAUSSIAN_BEAM:
+        f = gaussian_beam_field(p, i, data, x, y, z, t)
+    elif kind == EXPRESSION:
+        f = expression_field(p, i, data, x, y, z, t)
+    else:
+        f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
+    return f
 
 
 @njit(**LEAF)
 def field_at(kinds, params, data, x, y, z, t):
     """E (V/m) and B (T) at (x, y, z) in m and t in s, summed over the table rows.
 
-    ``data`` is the 1-D float64 bulk array (field maps, expression programs); each
-    model finds its block at ``params[i, DATA_OFFSET_SLOT]``. An unknown kind code
-    gives NaN (the run stops and says so) rather than a silent zero.
+    The dispatch is written out here rather than calling ``field_row``: numba's
+    reference-count pruning then removes every atomic increment from the step loop
+    (one more inlined level with array arguments leaves them in, measured 2x slower).
     """
     ex = ey = ez = bx = by = bz = 0.0
     for i in range(kinds.shape[0]):
         kind = kinds[i]
-        p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
+        p = params
         if kind == UNIFORM:
             f = uniform_field(p, i, data, x, y, z, t)
         elif kind == PLANE_WAVE:
@@ -46,7 +91,7 @@ def field_at(kinds, params, data, x, y, z, t):
         elif kind == EXPRESSION:
             f = expression_field(p, i, data, x, y, z, t)
         else:
-            f = (NAN, NAN, NAN, NAN, NAN, NAN)
+            f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
         ex += f[0]
         ey += f[1]
         ez += f[2]
@@ -54,6 +99,27 @@ def field_at(kinds, params, data, x, y, z, t):
         by += f[4]
         bz += f[5]
     return ex, ey, ez, bx, by, bz
+
+
+@njit(**LEAF)
+def row_rate(kinds, params, data, i, x, y, z, t, bx, by, bz, gamma, qm):
+    """The model's own angular rate (rad/s) for row ``i``, 0 if it has none; beta = (bx, by, bz)."""
+    kind = kinds[i]
+    if kind == PLANE_WAVE:
+        w = plane_wave_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == UNDULATOR:
+        w = undulator_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == GAUSSIAN_BEAM:
+        w = gaussian_beam_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == FIELD_MAP:
+        w = field_map_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == EXPRESSION:
+        w = expression_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == UNIFORM or kind == MIRROR or kind == DIPOLE or kind == TOKAMAK:
+        w = 0.0
+    else:
+        w = math.nan
+    return w
 
 
 @njit(**KERNEL)
@@ -72,8 +138,11 @@ def fields_on_points(kinds, params, data, points, t, out_e, out_b):
 def evaluate(kinds, params, data, points, t):
     """E, B arrays (n, 3) in SI at positions ``points`` (n, 3) m and time t (s)."""
     points = np.ascontiguousarray(np.atleast_2d(points), dtype=np.float64)
-    if points.shape[-1] != 3:
+    if points.ndim != 2 or points.shape[-1] != 3:
         raise ValueError(f"positions must have shape (n, 3), not {points.shape}.")
+    t = np.asarray(t, dtype=np.float64)
+    if t.ndim != 0:
+        raise ValueError(f"the time must be one number in s, not an array of shape {t.shape}.")
     out_e = np.zeros_like(points)
     out_b = np.zeros_like(points)
     fields_on_points(kinds, params, data, points, float(t), out_e, out_b)

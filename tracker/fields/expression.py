@@ -221,7 +221,7 @@ def expression_field(p, i, data, x, y, z, t):
 
 
 @njit(**LEAF)
-def expression_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma):
+def expression_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma, qm):
     """Own time scale (rad/s): 2 pi times the declared ``frequency`` (0 when none)."""
     return abs(p[i, OMEGA_SLOT])
 
@@ -529,6 +529,8 @@ def maxwell_residuals(v, center, size):
     params = np.zeros((1, DATA_OFFSET_SLOT + 1))
     params[0, :1] = _pack(v)
     data = _data(v)
+    for a in (kinds, params, data):  # read-only, as every field table: one compiled evaluator for all
+        a.setflags(write=False)
     axis = np.linspace(-size, size, CHECK_POINTS)
     grid = np.array(np.meshgrid(axis, axis, axis, indexing="ij")).reshape(3, -1).T + np.asarray(center)
     h = 1e-4 * size
@@ -599,4 +601,5 @@ MODEL = FieldModel(
     data=_data,
     data_bytes=_data_bytes,
     advice=_advice,
+    rate_label="period of the declared frequency",
 )

@@ -153,7 +153,7 @@ def field_map_field(p, i, data, x, y, z, t):
 
 
 @njit(**LEAF)
-def field_map_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma):
+def field_map_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma, qm):
     """Own time scale (rad/s): the angular frequency of a time-harmonic map (0 when static)."""
     return abs(p[i, OMEGA_SLOT])
 
@@ -234,6 +234,7 @@ MODEL = FieldModel(
     data=_data,
     data_bytes=_data_bytes,
     outside=_outside,
+    rate_label="period of the map's time dependence",
 )
 
 

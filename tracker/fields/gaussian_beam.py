@@ -106,7 +106,7 @@ def gaussian_beam_field(p, i, data, x, y, z, t):
 
 
 @njit(**LEAF)
-def gaussian_beam_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma):
+def gaussian_beam_rate(p, i, data, x, y, z, t, beta_x, beta_y, beta_z, gamma, qm):
     """Laser frequency seen by the particle, w (1 - n.beta) in rad/s (the plane-wave rule)."""
     n_beta = p[i, SLOT_N] * beta_x + p[i, SLOT_N + 1] * beta_y + p[i, SLOT_N + 2] * beta_z
     return p[i, SLOT_OMEGA] * (1.0 - n_beta)
@@ -170,4 +170,5 @@ MODEL = FieldModel(
          "with first-order longitudinal E and B, and the plane-wave envelopes in time. Needs w0 >~ 2 lambda."),
     domain=_domain,
     advice=_advice,
+    rate_label="laser period seen by the particle",
 )

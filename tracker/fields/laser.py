@@ -43,6 +43,12 @@ def plane_wave_field(p, i, data, x, y, z, t):
     return ex, ey, ez, bx, by, bz
 
 
+@njit(**LEAF)
+def plane_wave_rate(p, i, data, x, y, z, t, bx, by, bz, gamma, qm):
+    """Laser angular frequency seen by the particle, w (1 - n.beta) in rad/s (Doppler shift)."""
+    return p[i, 1] * (1.0 - (p[i, 2] * bx + p[i, 3] * by + p[i, 4] * bz))
+
+
 def a0_of(v):
     """a0 of a plane-wave parameter set (from a0 or E0), dimensionless."""
     if v.get("a0") is not None:
@@ -101,6 +107,7 @@ MODEL = FieldModel(
     ),
     pack=_pack,
     check=_check,
+    rate_label="laser period seen by the particle",
     doc=(
         "Plane wave from a(s) = a0 g(s) cos(w s + phase) on the vector potential. `duration` is the "
         "FWHM of the intensity |a|^2 envelope; for sin2 the amplitude envelope is cos^2(pi s/T) over a "

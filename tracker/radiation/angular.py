@@ -77,10 +77,10 @@ def orbit_kinematics(result, index=None):
     t = np.ascontiguousarray(np.atleast_1d(result.t[sel]), dtype=np.float64)
     x = np.ascontiguousarray(np.atleast_2d(result.x[sel]), dtype=np.float64)
     u = np.ascontiguousarray(np.atleast_2d(result.u[sel]), dtype=np.float64)
-    kinds, params = result.scenario.field_table
+    kinds, params, data = result.scenario.field_table
     particle = result.scenario.particle
     out = np.zeros_like(x)
-    _beta_dot_along(kinds, params, result.scenario.field_data, particle.charge / (particle.mass * k.c), t, x, u, out)
+    _beta_dot_along(kinds, params, data, particle.charge / (particle.mass * k.c), t, x, u, out)
     gamma = np.sqrt(1.0 + np.einsum("ij,ij->i", u, u))
     return u / gamma[:, None], out
 

@@ -1,0 +1,256 @@
+"""One step of one particle, composed of the inlined leaf functions of each family.
+
+Leapfrog layout: x at integer steps, u = gamma v/c at half steps. Step n of particle j:
+
+1. fields: E, B at (x^n, t^n) from the field table (``fields.evaluate.field_at``);
+2. time scale: with adaptive steps, dt^n resolves the fastest local rate
+   (``timescales.fastest_rate``) by ``steps_per_period``;
+3. push: a symmetric splitting of the Lorentz push and the radiation reaction over
+   the push interval h = (dt^{n-1} + dt^n)/2 (``radiation.reaction.radiation_kick``,
+   ``pushers.dispatch.push``), all with the fields at x^n:
+
+       u_a       = u^{n-1/2} + (h/2) F(u^{n-1/2})           explicit half kick
+       u_b       = Lorentz push of u_a over h
+       u^{n+1/2} = u_b + (h/2) F(u_b + (h/2) F(u^{n-1/2}))   end half kick at a predicted end state
+
+   The end half kick approximates the implicit Euler half step, the adjoint of the
+   explicit one, so the composition is symmetric (time-reversible up to O(h^3)) and
+   therefore second order for any force that turns the momentum, electric or magnetic
+   (Strang splitting; E. Hairer, C. Lubich and G. Wanner, "Geometric Numerical
+   Integration", 2nd ed., sec. II.5 and II.3: the adjoint method and symmetric
+   composition, from memory). Each half kick acts along the momentum it is evaluated
+   at, so a magnetic rotation does not shorten the friction by cos(theta/2);
+4. diagnostics at t^n: the synchronous state gamma = (gamma^{n-1/2} + gamma^{n+1/2})/2
+   with u along u^{n-1/2} + u^{n+1/2} (rescaled to that gamma), Lienard power (times
+   g(chi) for the quantum-corrected model), chi, q E.v; cumulative radiated energy
+   and field work by the trapezoidal rule;
+5. x^{n+1} = x^n + c dt^n u^{n+1/2}/gamma^{n+1/2}.
+
+A particle stops (its status code says why) on a non-finite value, or when the
+radiation kick of one step exceeds ``KICK_LIMIT`` of its momentum: the splitting
+assumes a small change per step, and past that bound it can feed energy in instead
+of removing it.
+"""
+
+import math
+
+from numba import njit
+
+from . import constants as k
+from .config import LEAF
+from .pushers.dispatch import push
+from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
+from .radiation.quantum import gaunt_factor
+from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, radiation_kick
+from .timescales import fastest_rate
+
+# ---------------------------------------------------------------- state slots (rows of a (STATE_SIZE, N) array)
+X, U, T, RAD, WORK, PPREV, WPREV, EPREV, BPREV = 0, 3, 6, 7, 8, 9, 10, 11, 14
+STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22
+STATE_SIZE = 23
+
+# ---------------------------------------------------------------- species row
+SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE = range(5)
+SPECIES_SIZE = 5
+
+# ---------------------------------------------------------------- plan row
+(PL_DT, PL_LAST, PL_SAVE, PL_PUSHER, PL_DAMPING, PL_ADAPTIVE, PL_SPP, PL_DTMIN, PL_DTMAX, PL_TEND,
+ PL_GRID, PL_INTERVAL, PL_SEED) = range(13)
+PLAN_SIZE = 13
+
+# ---------------------------------------------------------------- particle status codes
+RUNNING, FINISHED, NONFINITE, KICK_TOO_LARGE = 0, 1, 2, 3
+
+#: largest radiation kick of one step as a fraction of |u| (common practice, no source: the
+#: split kick is a first-order correction and must stay a small change per step).
+KICK_LIMIT = 0.1
+
+
+@njit(**LEAF)
+def species_tuple(sp):
+    """The species row (SPECIES_SIZE,) as a tuple."""
+    return (sp[0], sp[1], sp[2], sp[3], sp[4])
+
+
+@njit(**LEAF)
+def plan_tuple(pl):
+    """The plan row (PLAN_SIZE,) as a tuple."""
+    return (pl[0], pl[1], pl[2], pl[3], pl[4], pl[5], pl[6], pl[7], pl[8], pl[9], pl[10], pl[11], pl[12])
+
+
+@njit(**LEAF)
+def load_state(state, j):
+    """Particle j's state as a tuple (STATE_SIZE floats) from the (STATE_SIZE, N) array."""
+    return (state[0, j], state[1, j], state[2, j], state[3, j], state[4, j], state[5, j], state[6, j],
+            state[7, j], state[8, j], state[9, j], state[10, j], state[11, j], state[12, j], state[13, j],
+            state[14, j], state[15, j], state[16, j], state[17, j], state[18, j], state[19, j], state[20, j],
+            state[21, j], state[22, j])
+
+
+@njit(**LEAF)
+def store_state(state, j, s):
+    """Write the tuple ``s`` back to column j of the state array."""
+    for i in range(STATE_SIZE):
+        state[i, j] = s[i]
+
+
+@njit(**LEAF)
+def adaptive_rate(kinds, params, data, sp, pl, s, f):
+    """Fastest local rate (rad/s) at state ``s`` with fields ``f`` = (E, B) for an adaptive step (step 2)."""
+    qm = sp[SP_QM]
+    cooling_scale = 0.0
+    if pl[PL_DAMPING] != NONE:
+        cooling_scale = sp[SP_POWER] * qm / (sp[SP_CHARGE] * k.c * k.c)  # q^2 tau0/m / (m c^2)
+    return fastest_rate(kinds, params, data, qm, cooling_scale, s[X], s[X + 1], s[X + 2], s[T],
+                        s[U], s[U + 1], s[U + 2], f[0], f[1], f[2], f[3], f[4], f[5])[0]
+
+
+@njit(**LEAF)
+def advance(sp, pl, s, f, omega):
+    """Advance one particle by one step (see the module docstring) with its local fields
+    ``f`` = (Ex, Ey, Ez, Bx, By, Bz) in V/m and T and, for adaptive runs, the fastest
+    local rate ``omega`` (rad/s, from ``adaptive_rate``).
+
+    ``sp``, ``pl`` and ``s`` are tuples (species row, plan row, state; SP_*, PL_* and
+    state slots): tuples live in registers, where
+    arrays passed to an inlined function cost atomic reference counting on every call.
+    Returns (new state tuple, saved, t, usx, usy, usz, gamma,
+    power, chi, dt): ``saved`` is True when the synchronous state at t (s) was recorded
+    (u = gamma beta, power W, chi, dt s) at the position of ``s`` (before this step).
+    """
+    qm = sp[SP_QM]
+    x = s[X]
+    y = s[X + 1]
+    z = s[X + 2]
+    ux = s[U]
+    uy = s[U + 1]
+    uz = s[U + 2]
+    t = s[T]
+    radiated = s[RAD]
+    work = s[WORK]
+    p_prev = s[PPREV]
+    w_prev = s[WPREV]
+    step = s[STEP]
+    dt_prev = s[DTPREV]
+    saved = s[SAVED]
+    next_save = s[NEXT_SAVE]
+    g_old = s[GAMMA_HALF]
+    damping = int(pl[PL_DAMPING])
+    adaptive = pl[PL_ADAPTIVE] != 0.0
+    grid = pl[PL_GRID] != 0.0
+    t_end = pl[PL_TEND]
+
+    ex, ey, ez, bx, by, bz = f
+
+    finished = step == pl[PL_LAST]
+    if grid:
+        save = t >= next_save
+        finished = finished or (save and t >= t_end)
+    else:
+        save = step - pl[PL_SAVE] * math.floor(step / pl[PL_SAVE]) == 0.0
+    dt = pl[PL_DT]
+    landing = False
+    target = 0.0
+    if adaptive:
+        dt = pl[PL_DTMAX]
+        if omega > 0.0:
+            dt = 2.0 * math.pi / (omega * pl[PL_SPP])
+        dt = min(max(dt, pl[PL_DTMIN]), pl[PL_DTMAX])
+        if grid:
+            target = min((saved + (1.0 if save else 0.0)) * pl[PL_INTERVAL], t_end)
+            if t + dt >= target:
+                dt = target - t
+                landing = True
+        else:
+            if t + dt >= t_end:
+                dt = t_end - t
+            finished = finished or dt <= 1e-12 * t_end
+        dt_push = 0.5 * (dt_prev + dt)
+    else:
+        dt_push = dt
+
+    # push: explicit half kick, Lorentz, half kick at the predicted end state
+    inv_dtp = 1.0 / dt_prev
+    dex = (ex - s[EPREV]) * inv_dtp
+    dey = (ey - s[EPREV + 1]) * inv_dtp
+    dez = (ez - s[EPREV + 2]) * inv_dtp
+    dbx = (bx - s[BPREV]) * inv_dtp
+    dby = (by - s[BPREV + 1]) * inv_dtp
+    dbz = (bz - s[BPREV + 2]) * inv_dtp
+    half = 0.5 * dt_push
+    tau0 = sp[SP_TAU0]
+    cscale = sp[SP_CHI]
+    kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, ux, uy, uz, ex, ey, ez, bx, by, bz,
+                                   dex, dey, dez, dbx, dby, dbz)
+    hq = 0.5 * qm * dt_push
+    hqc = hq * (1.0 / k.c)
+    lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
+                      hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+    kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, lx + kax, ly + kay, lz + kaz,
+                                   ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
+    nux = lx + kbx
+    nuy = ly + kby
+    nuz = lz + kbz
+    status = RUNNING
+    recorded = False
+    usx = usy = usz = gs = power = chi = g_new = 0.0
+    betax = betay = betaz = 0.0
+    if damping != NONE:
+        kx = kax + kbx
+        ky = kay + kby
+        kz = kaz + kbz
+        if kx * kx + ky * ky + kz * kz > KICK_LIMIT * KICK_LIMIT * (ux * ux + uy * uy + uz * uz):
+            status = KICK_TOO_LARGE
+    if status == RUNNING:
+        # diagnostics at t^n
+        g_new = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
+        gs = 0.5 * (g_old + g_new)
+        sx = ux + nux
+        sy = uy + nuy
+        sz = uz + nuz
+        s2 = sx * sx + sy * sy + sz * sz
+        scale = math.sqrt((gs * gs - 1.0) / (s2 * gs * gs)) if s2 > 0.0 else 0.0  # beta = u/gamma, |u| = sqrt(gs^2-1)
+        betax = sx * scale
+        betay = sy * scale
+        betaz = sz * scale
+        f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
+        power = lienard_power(sp[SP_POWER], gs, f2)
+        chi = chi_parameter(cscale, gs, f2)
+        if damping == LANDAU_LIFSHITZ_QUANTUM:
+            power *= gaunt_factor(chi)
+        usx = betax * gs
+        usy = betay * gs
+        usz = betaz * gs
+        if not math.isfinite(power + g_new):
+            # NaN or Inf from the fields or the push: stop before saving, keep the last good state
+            status = NONFINITE
+    if status == RUNNING:
+        work_rate = sp[SP_CHARGE] * k.c * (ex * betax + ey * betay + ez * betaz)
+        if step > 0.0:
+            radiated += 0.5 * dt_prev * (power + p_prev)
+            work += 0.5 * dt_prev * (work_rate + w_prev)
+        p_prev = power
+        w_prev = work_rate
+        recorded = save or finished
+        if recorded:
+            saved += 1.0
+            if grid:
+                next_save = min(saved * pl[PL_INTERVAL], t_end)
+        if finished:
+            status = FINISHED
+    if status == RUNNING:
+        step_len = k.c * dt / g_new
+        nx = x + nux * step_len
+        ny = y + nuy * step_len
+        nz = z + nuz * step_len
+        # one test catches NaN or Inf in any of them: both propagate through the sum
+        if not math.isfinite(nx + ny + nz + nux + nuy + nuz):
+            status = NONFINITE
+        else:
+            s = (nx, ny, nz, nux, nuy, nuz, target if landing else t + dt, radiated, work, p_prev, w_prev,
+                 ex, ey, ez, bx, by, bz, step + 1.0, dt, float(status), saved, next_save, g_new)
+    if status != RUNNING:
+        # the position and momentum stay at the last good state; the sums include this step if it was good
+        s = (x, y, z, ux, uy, uz, t, radiated, work, p_prev, w_prev, s[EPREV], s[EPREV + 1], s[EPREV + 2],
+             s[BPREV], s[BPREV + 1], s[BPREV + 2], step, dt_prev, float(status), saved, next_save, g_old)
+    return s, recorded, t, usx, usy, usz, gs, power, chi, dt

@@ -29,6 +29,7 @@ roughly a few ns per operation, measured in benchmarks/bench_fields.py.
 
 import ast
 import math
+import warnings
 
 import numpy as np
 from numba import njit
@@ -430,7 +431,9 @@ def compile_formula(text, parameters=None):
     if "\x00" in text:
         raise FormulaError("the formula contains a NUL character", text.index("\x00") + 1, text)
     try:
-        tree = ast.parse(text.strip(), mode="eval")
+        with warnings.catch_warnings():  # e.g. "invalid decimal literal" for '1and': the error below says it
+            warnings.simplefilter("ignore", SyntaxWarning)
+            tree = ast.parse(text.strip(), mode="eval")
     except SyntaxError as exc:
         stripped = text.strip()
         column = min(exc.offset or len(stripped) + 1, len(stripped) + 1)

@@ -387,28 +387,9 @@ def _merge(data, section, changes):
     return data
 
 
-def _integer(value, key, minimum=1):
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or value != int(value) or value < minimum:
-        raise ScenarioError(key, f"must be a whole number >= {minimum}, not {value!r}.")
-    return int(value)
-
-
 def _choice(value, choices, key):
     if value not in choices:
         raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {value!r}.")
-    return value
-
-
-def _positive(value, dimension, key):
-    number = parse_scalar(value, dimension, key)
-    if not number > 0:
-        raise ScenarioError(key, f"must be positive, not {value!r}.")
-    return number
-
-
-def _boolean(value, key):
-    if not isinstance(value, bool):
-        raise ScenarioError(key, f"must be true or false, not {value!r}.")
     return value
 
 

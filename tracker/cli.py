@@ -1,4 +1,4 @@
-"""The ``radorbit`` command: run, check, lab, spectrum. Thin wrappers over the Python API."""
+"""The ``radorbit`` command: run, check, fieldmap, lab, spectrum. Thin wrappers over the Python API."""
 
 import argparse
 import sys
@@ -206,7 +206,28 @@ def cmd_check(args):
     if regime_rows is not None:
         rows += [list(r) for r in regime_rows(scenario)]
     print_table(["check", "value"], rows)
+    from .validity import field_advice
+
+    for w in field_advice(scenario):
+        print(f"warning ({w['kind']}): {w['message']}")
     print("scenario is valid")
+    return 0
+
+
+def cmd_fieldmap(args):
+    from . import load_scenario
+    from .fieldmap_export import export_field_map
+    from .units import parse_scalar
+
+    scenario = load_scenario(args.scenario)
+    t = parse_scalar(args.time, "time", "--time")
+    frequency = parse_scalar(args.frequency, "frequency", "--frequency")
+    bar, update = _progress_bar(f"sampling {Path(args.scenario).stem}")
+    try:
+        path, geometry, shape = export_field_map(scenario, args.grid, Path(args.output), t, frequency, update)
+    finally:
+        bar.close()
+    print(f"wrote {path} ({geometry} map, {' x '.join(map(str, shape))} nodes, t = {t:g} s)")
     return 0
 
 
@@ -247,6 +268,16 @@ def build_parser():
     check.add_argument("scenario", help="scenario TOML file")
     add_run_overrides(check)
     check.set_defaults(func=cmd_check)
+
+    fmap = sub.add_parser("fieldmap", help="sample a scenario's fields on a grid and write a field map")
+    fmap.add_argument("scenario", help="scenario TOML file")
+    fmap.add_argument("--grid", nargs="+", required=True, metavar="AXIS=LOW:HIGH:N",
+                      help="x=.. y=.. z=.. (Cartesian) or r=.. z=.. (axisymmetric, axis z); e.g. x=-1cm:1cm:21")
+    fmap.add_argument("--time", default="0 s", help="time at which to sample (default 0 s)")
+    fmap.add_argument("--frequency", default="0 Hz",
+                      help="write a time-harmonic map of this frequency (adds the quadrature part)")
+    fmap.add_argument("-o", "--output", required=True, help="map file to write (.h5, or .csv)")
+    fmap.set_defaults(func=cmd_fieldmap)
 
     lab = sub.add_parser("lab", help="open the browser lab")
     lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")

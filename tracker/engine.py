@@ -143,7 +143,8 @@ def outside_reason(scenario, x):
     """Text naming the field model whose domain the position x (3,) m is outside of, or None."""
     for i, f in enumerate(scenario.fields):
         if f.model.outside is not None:
-            reason = f.model.outside(f.params, np.asarray(x, dtype=float))
+            # base_dir: a model's domain may live in a file named relative to the scenario (field maps)
+            reason = f.model.outside(f.params, np.asarray(x, dtype=float), scenario.base_dir)
             if reason:
                 return f"field[{i}]: {reason}"
     return None

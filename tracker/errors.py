@@ -6,4 +6,5 @@ class ScenarioError(ValueError):
 
     def __init__(self, key, message):
         self.key = key
+        self.message = message
         super().__init__(f"{key}: {message}" if key else message)

@@ -166,6 +166,9 @@ def make_plan(scenario):
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
     kept, state, peak = memory_estimate(scenario, steps, saved)
+    # the fields' bulk data (maps, formula programs) is loaded for the whole run
+    state += scenario.field_data_bytes
+    peak += scenario.field_data_bytes
     memory = kept + state
     if steps > run.max_steps:
         raise ScenarioError(

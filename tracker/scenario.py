@@ -205,7 +205,7 @@ class Scenario:
         scenario = cls(
             run=run,
             particle=particle,
-            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i) for i, f in enumerate(raw_fields)),
+            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i, base_dir) for i, f in enumerate(raw_fields)),
             title=data.get("title", ""),
             description=data.get("description", ""),
             beam=beam,
@@ -245,7 +245,7 @@ class Scenario:
         else:
             out["beam"] = _beam_dict(self.beam, self.particle)
         out["field"] = [
-            {"type": f.type, **{name: list(v) if isinstance(v, tuple) else v for name, v in f.values}}
+            {"type": f.type, **{name: _raw_value(f.model.param(name), v) for name, v in f.values}}
             for f in self.fields
         ]
         if as_entered:
@@ -328,10 +328,19 @@ class Scenario:
                 params[i, DATA_OFFSET_SLOT] = float(offset)
                 blocks.append(block)
                 offset += block.size
-        data = np.concatenate(blocks) if blocks else np.zeros(1)
+        if len(blocks) == 1:
+            data = blocks[0]  # one (possibly large) map or program is used as loaded: no copy
+        else:
+            data = np.concatenate(blocks) if blocks else np.zeros(1)
         for a in (kinds, params, data):
             a.setflags(write=False)
         return kinds, params, data
+
+    @property
+    def field_data_bytes(self):
+        """Bytes of the field models' bulk data (maps, formula programs) kept for a run."""
+        return sum(int(f.model.data_bytes(f.params, self.base_dir)) for f in self.fields
+                   if f.model.data_bytes is not None)
 
     def fields_at(self, x, t):
         """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and one time t in s.
@@ -588,7 +597,14 @@ def _put(data, path, value):
         data[section][key] = value
 
 
-def _parse_field(raw, index):
+def _raw_value(param, value):
+    """A parsed field value as a scenario file holds it (lists for vectors, a table for tables)."""
+    if param.kind == "table":
+        return dict(value)
+    return list(value) if isinstance(value, tuple) else value
+
+
+def _parse_field(raw, index, base_dir=None):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
@@ -607,4 +623,6 @@ def _parse_field(raw, index):
             values.append((param.name, param.default))
     if model.check is not None:
         model.check(dict(values), key)
+    if model.resolve is not None:
+        model.resolve(dict(values), key, base_dir)
     return FieldSpec(model.name, tuple(values))

@@ -25,6 +25,8 @@ def _value(v):
         return json.dumps(v, ensure_ascii=False)
     if isinstance(v, (list, tuple)):
         return "[" + ", ".join(_value(x) for x in v) + "]"
+    if isinstance(v, dict):  # inline table; keys are identifiers (checked by the schema)
+        return "{" + ", ".join(f"{key} = {_value(x)}" for key, x in v.items()) + "}"
     raise TypeError(f"cannot write {v!r} to TOML")
 
 

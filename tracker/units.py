@@ -32,6 +32,7 @@ SI_UNITS = {
     "voltage": "V",
     "magnetic_moment": "A*m**2",
     "angle": "rad",
+    "frequency": "Hz",
 }
 
 

@@ -96,7 +96,7 @@ def laser_rows(scenario):
 
     rows = []
     for i, f in enumerate(scenario.fields):
-        if f.type != "plane-wave":
+        if f.type not in ("plane-wave", "gaussian-beam"):
             continue
         v = f.params
         omega = 2.0 * math.pi * k.c / v["wavelength"]
@@ -140,7 +140,7 @@ def check_result(result):
         ``{"kind": str, "message": str, "time": float (s)}``, kinds "resolution",
         "quantum", "radiation-dominated", "domain", "nonfinite".
     """
-    found = check_nonfinite(result)
+    found = check_nonfinite(result) + check_outside(result) + field_advice(result.scenario)
     good = _finite_states(result)
     if not np.any(good):
         return found
@@ -162,6 +162,29 @@ def _finite_states(result):
     for a in arrays:
         good &= np.isfinite(a)
     return good
+
+
+def check_outside(result):
+    """'domain' when the run stopped because the particle left a field's domain (e.g. a map's grid)."""
+    from .engine import STOP_LEFT_DOMAIN
+
+    reason = str(result.meta.get("stop_reason", ""))
+    if not reason.startswith(STOP_LEFT_DOMAIN):
+        return []
+    t_last = float(result.t[-1]) if len(result.t) else 0.0
+    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {reason}. Enlarge the map, or choose "
+                              "outside = \"zero\" to continue without its field.", t_last)]
+
+
+def field_advice(scenario):
+    """Warnings the field models give before any run (``FieldModel.advice``), dated t = 0."""
+    found = []
+    for i, f in enumerate(scenario.fields):
+        if f.model.advice is None:
+            continue
+        for kind, message in f.model.advice(f.params, scenario):
+            found.append(warning(kind, f"field[{i}] ({f.model.label}): {message}", 0.0))
+    return found
 
 
 def check_nonfinite(result):

@@ -62,7 +62,7 @@ def load_initial(state, initial_scenario_path=None):
         state.load_bundled(DEFAULT_SCENARIO)
         state.source_error = message
         return False
-    return state.load_toml(text, path.name)
+    return state.load_toml(text, path.name, base_dir=path.resolve().parent)
 
 
 def spectrum_panel():

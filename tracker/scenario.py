@@ -37,7 +37,7 @@ SPECIES_NAMES = tuple(sp.NAMED) + ("ion", "custom")
 RUN_KEYS = ("duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps",
             "adaptive", "dt_min", "dt_max")
 PARTICLE_KEYS = ("species", "charge_state", "mass_number", "mass", "charge", "position", "direction") + MOMENTUM_KEYS
-TOP_KEYS = ("title", "description", "run", "particle", "field")
+TOP_KEYS = ("title", "description", "run", "particle", "field", "sweep")
 
 
 @dataclass(frozen=True)
@@ -122,6 +122,7 @@ class Scenario:
     fields: tuple = ()
     title: str = ""
     description: str = ""
+    sweep: object = None  #: tracker.scan.spec.SweepSpec of a [sweep] table (a scan), or None
 
     # ------------------------------------------------------------------ building
     @classmethod
@@ -148,8 +149,11 @@ class Scenario:
             fields=tuple(_parse_field(_table(f, f"field[{i}]"), i) for i, f in enumerate(raw_fields)),
             title=data.get("title", ""),
             description=data.get("description", ""),
+            sweep=_parse_sweep(data),
         )
         scenario.plan()  # resolution and size checks belong to validation
+        if scenario.sweep is not None:
+            scenario.sweep.check_keys(scenario)
         return scenario
 
     @classmethod
@@ -185,6 +189,8 @@ class Scenario:
             {"type": f.type, **{name: list(v) if isinstance(v, tuple) else v for name, v in f.values}}
             for f in self.fields
         ]
+        if self.sweep is not None:
+            out["sweep"] = self.sweep.to_dict()
         return out
 
     def to_toml(self):
@@ -245,6 +251,15 @@ def load_scenario(path):
 
 
 # ---------------------------------------------------------------------- parsing helpers
+def _parse_sweep(data):
+    """The optional [sweep] table (tracker.scan.spec); None when absent."""
+    if "sweep" not in data:
+        return None
+    from .scan.spec import parse_sweep_table
+
+    return parse_sweep_table(data["sweep"])
+
+
 def _table(value, key):
     if not isinstance(value, dict):
         raise ScenarioError(key, f"must be a table, not {value!r}.")

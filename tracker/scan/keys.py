@@ -1,0 +1,114 @@
+"""Key paths of a scenario: ``field[0].a0``, ``particle.kinetic_energy``, ``run.pusher``, ``particle.position[2]``.
+
+A path names one entry of the scenario's plain dict (``Scenario.to_dict()``); an optional
+trailing ``[k]`` picks one component of a vector. Points of a scan are that dict with
+the varied entries replaced and handed back to ``Scenario.from_dict``, which stays the
+only judge of validity.
+"""
+
+import re
+
+from ..errors import ScenarioError
+from ..fields import MODELS as FIELD_MODELS
+
+_PATH = re.compile(r"^(?:(run|particle)\.([a-z_0-9]+)|field\[(\d+)\]\.([A-Za-z_0-9]+))(?:\[(\d)\])?$")
+
+#: entries that replace each other: giving one drops the others of its group
+EXCLUSIVE = {
+    "particle": (("gamma", "kinetic_energy", "speed", "momentum", "u"),),
+    "run": (("dt", "steps_per_period"),),
+    "field": (("a0", "E0"),),
+}
+
+#: dimension of each scalar or vector [run]/[particle] entry (field entries carry theirs in the registry)
+DIMENSIONS = {
+    "run.duration": "time", "run.dt": "time", "run.dt_min": "time", "run.dt_max": "time",
+    "particle.position": "length", "particle.kinetic_energy": "energy", "particle.speed": "velocity",
+    "particle.momentum": "momentum", "particle.mass": "mass", "particle.charge": "charge",
+}
+
+
+def parse_key(key):
+    """(section, field index or None, name, component or None) of a key path; ScenarioError if malformed."""
+    match = _PATH.match(key.strip()) if isinstance(key, str) else None
+    if match is None:
+        raise ScenarioError(str(key), "is not a key path; write run.NAME, particle.NAME or field[i].NAME "
+                                      "(optionally [k] for one vector component).")
+    section, name, index, field_name, component = match.groups()
+    if index is not None:
+        return "field", int(index), field_name, None if component is None else int(component)
+    return section, None, name, None if component is None else int(component)
+
+
+def check_key(scenario, key):
+    """Refuse a key path the scenario cannot take (unknown table, entry or field component)."""
+    from ..scenario import PARTICLE_KEYS, RUN_KEYS
+
+    section, index, name, component = parse_key(key)
+    if section == "field":
+        if index >= len(scenario.fields):
+            raise ScenarioError(key, f"there is no field[{index}]: the scenario has {len(scenario.fields)} "
+                                     "field component(s).")
+        model = scenario.fields[index].model
+        names = [p.name for p in model.params]
+        if name not in names:
+            raise ScenarioError(key, f"a {model.name} field has no entry {name!r}; it has {', '.join(names)}.")
+        kind = model.param(name).kind
+    else:
+        allowed = RUN_KEYS if section == "run" else PARTICLE_KEYS
+        if name not in allowed:
+            raise ScenarioError(key, f"[{section}] has no entry {name!r}; it has {', '.join(allowed)}.")
+        kind = "vector" if name in ("position", "direction", "momentum", "u") else "scalar"
+    if component is not None and (kind != "vector" or component > 2):
+        raise ScenarioError(key, "a component [k] (k = 0, 1, 2) applies only to a vector entry.")
+
+
+def _container(data, section, index, key):
+    if section == "field":
+        return data["field"][index]
+    return data.setdefault(section, {})
+
+
+def set_value(data, key, value):
+    """Set one entry of a scenario dict in place (the entries it replaces are dropped)."""
+    section, index, name, component = parse_key(key)
+    table = _container(data, section, index, key)
+    if component is not None:
+        vector = list(table.get(name) or [0.0, 0.0, 0.0])
+        vector[component] = value
+        table[name] = vector
+        return
+    for group in EXCLUSIVE[section]:
+        if name in group:
+            for other in group:
+                if other != name:
+                    table.pop(other, None)
+    if section == "particle" and name in ("momentum", "u"):
+        table.pop("direction", None)   # a vector momentum carries its direction
+    table[name] = list(value) if isinstance(value, tuple) else value
+
+
+def get_value(scenario, key):
+    """The entry at a key path of a validated Scenario, in SI (float, str, bool or a 3-list)."""
+    section, index, name, component = parse_key(key)
+    data = scenario.to_dict()
+    table = data["field"][index] if section == "field" else data[section]
+    value = table.get(name)
+    if component is not None and value is not None:
+        return value[component]
+    return value
+
+
+def dimension(scenario, key):
+    """Dimension name of the entry (a key of ``tracker.units.SI_UNITS``); 'dimensionless' for choices."""
+    section, index, name, _ = parse_key(key)
+    if section == "field":
+        return FIELD_MODELS[scenario.fields[index].type].param(name).dimension
+    return DIMENSIONS.get(f"{section}.{name}", "dimensionless")
+
+
+def unit(scenario, key):
+    """SI unit text of the entry ('' for numbers without unit, choices and flags)."""
+    from ..units import SI_UNITS
+
+    return SI_UNITS[dimension(scenario, key)]

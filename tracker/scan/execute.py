@@ -64,11 +64,15 @@ def run_points(jobs, on_done, *, client=None, workers=None, keep=False, cancel=N
     if client is not None:
         _run_on_dask(jobs, on_done, client, keep, cancel)
         return
-    with ThreadPoolExecutor(max_workers=max(1, int(workers or default_workers())),
-                            thread_name_prefix="radorbit-sweep") as pool:
+    pool = ThreadPoolExecutor(max_workers=max(1, int(workers or default_workers())),
+                              thread_name_prefix="radorbit-sweep")
+    try:
         futures = {pool.submit(_local_point, text, keep, cancel): index for index, text in jobs}
         for future in as_completed(futures):
             on_done(futures[future], future.result())
+    finally:
+        # on an exception here (a second Ctrl-C) points not started yet are dropped, not run
+        pool.shutdown(wait=True, cancel_futures=True)
 
 
 def _run_on_dask(jobs, on_done, client, keep, cancel):

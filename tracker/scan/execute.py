@@ -38,14 +38,14 @@ def _error_text(exc):
     return f"{type(exc).__name__}: {exc}"
 
 
-def _local_point(text, keep, cancel):
+def _local_point(scenario, keep, cancel):
     """One point with one retry; never raises (the row says what went wrong)."""
     errors = []
     for _ in range(ATTEMPTS):
         if _is_set(cancel):
             return _cancelled()
         try:
-            return compute_point(text, keep, cancel=cancel)
+            return compute_point(scenario, keep, cancel=cancel)
         except PointCancelled:
             return _cancelled()
         except Exception as exc:  # recorded in the row, never dropped
@@ -54,7 +54,9 @@ def _local_point(text, keep, cancel):
 
 
 def run_points(jobs, on_done, *, client=None, workers=None, keep=False, cancel=None):
-    """Run ``jobs`` = [(index, scenario TOML text)] and call ``on_done(index, outcome)`` on this thread.
+    """Run ``jobs`` = [(index, Scenario, its TOML text)]; call ``on_done(index, outcome)`` on this thread.
+
+    Local threads take the validated Scenario itself; a dask cluster gets the TOML text.
 
     ``outcome`` is ``compute_point``'s dict ({"row": ..., "results": ...}); failed and
     cancelled points come back too, with ``row["status"]`` saying so.
@@ -67,7 +69,7 @@ def run_points(jobs, on_done, *, client=None, workers=None, keep=False, cancel=N
     pool = ThreadPoolExecutor(max_workers=max(1, int(workers or default_workers())),
                               thread_name_prefix="radorbit-sweep")
     try:
-        futures = {pool.submit(_local_point, text, keep, cancel): index for index, text in jobs}
+        futures = {pool.submit(_local_point, scenario, keep, cancel): index for index, scenario, _ in jobs}
         for future in as_completed(futures):
             on_done(futures[future], future.result())
     finally:
@@ -76,28 +78,32 @@ def run_points(jobs, on_done, *, client=None, workers=None, keep=False, cancel=N
 
 
 def _run_on_dask(jobs, on_done, client, keep, cancel):
-    from distributed import wait
+    import threading
+
+    from distributed import as_completed
 
     futures = {}
-    for index, text in jobs:
+    for index, _, text in jobs:
         future = client.submit(compute_point, text, keep, key=f"radorbit-point-{index}-{os.urandom(6).hex()}",
                                retries=ATTEMPTS - 1, pure=False)
         futures[future] = index
-    pending = set(futures)
-    try:
-        while pending:
+    finished = threading.Event()
+
+    def watch_cancel():
+        # cancelled tasks come out of as_completed at once, so the loop below ends promptly
+        while not finished.wait(POLL_SECONDS):
             if _is_set(cancel):
-                client.cancel(list(pending))
-                for future in pending:
-                    on_done(futures[future], _cancelled())
+                client.cancel([f for f in futures if not f.done()])
                 return
-            try:
-                done, pending = wait(pending, timeout=POLL_SECONDS, return_when="FIRST_COMPLETED")
-            except TimeoutError:
-                continue
-            for future in done:
-                on_done(futures[future], _dask_outcome(future))
+
+    watcher = threading.Thread(target=watch_cancel, name="radorbit-sweep-cancel", daemon=True)
+    if cancel is not None:
+        watcher.start()
+    try:
+        for future in as_completed(futures):
+            on_done(futures[future], _dask_outcome(future))
     finally:
+        finished.set()
         for future in futures:
             future.release()
 

@@ -91,8 +91,8 @@ def compute_point(toml_text, keep=False, cancel=None):
 
     Parameters
     ----------
-    toml_text : str
-        The point's scenario as TOML.
+    toml_text : str or Scenario
+        The point's scenario as TOML (a validated Scenario on local threads: no re-parsing).
     keep : bool
         Also return both runs (``"results"``: {run: plain Result}).
     cancel : threading.Event, optional
@@ -107,7 +107,8 @@ def compute_point(toml_text, keep=False, cancel=None):
     from ..scenario import Scenario
 
     start = time.perf_counter()
-    comparison = run_comparison(Scenario.from_toml(toml_text), cancel=cancel)
+    scenario = toml_text if isinstance(toml_text, Scenario) else Scenario.from_toml(toml_text)
+    comparison = run_comparison(scenario, cancel=cancel)
     row = summary_row(comparison)
     row["wall_time"] = time.perf_counter() - start
     out = {"row": row}

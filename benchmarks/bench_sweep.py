@@ -110,7 +110,7 @@ def main():
     print(f"   dask LocalCluster, 1 worker process: {1e3 * (remote - plain) / n_tiny:7.2f} ms per point "
           f"(dask alone, no-op tasks submitted the same way: {1e3 * noop / n_tiny:.2f} ms per task)")
 
-    work = collision(60, 80)
+    work = collision(150, 4000 if not args.quick else 400)   # ~1e6 steps per point (both runs)
     vary = {"field[0].a0": a0_values(n_scan)}
     one = timed(lambda: sweep(work, vary, workers=1))[0]
     two = timed(lambda: sweep(work, vary, workers=2))[0]

@@ -32,13 +32,15 @@ CAUTION = ("Research and teaching tool: results are not for radiation-safety or 
            "defer to local regulations and licensed practice.")
 SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
+TAB_SCAN = "Scan"
 
 
 class Lab(Viewer):
     """One session's page, with handles on its state and parts (for tests and scripts)."""
 
-    def __init__(self, state, page, tabs, controls, spectrum=None):
+    def __init__(self, state, page, tabs, controls, spectrum=None, scan=None):
         super().__init__()
+        self.scan = scan
         self.state = state
         self.page = page
         self.tabs = tabs
@@ -164,13 +166,19 @@ def create_app(initial_scenario_path=None):
     elif spectrum_message:
         tabs.append((TAB_SPECTRUM, html_pane(f'<div class="ro-note">{html.escape(spectrum_message)}</div>')))
 
+    from .views.scan import ScanView
+
+    scan = ScanView(state, on_open=finished)
+    tabs.append((TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan)))
+
     if pn.state.curdoc is not None:
         # a closed tab stops its run at the next chunk instead of computing for nobody
         pn.state.on_session_destroyed(lambda _context: state.cancel_run())
+        pn.state.on_session_destroyed(lambda _context: scan.job is not None and scan.job.cancel.set())
 
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)
-    return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum)
+    return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum, scan=scan)
 
 
 def websocket_origins(address, port):

@@ -270,5 +270,17 @@ def test_cli_vary_options_and_zip(tmp_path, capsys):
     assert (tmp_path / "t.csv").read_text().count("\n") == 4   # comment, header, 2 points
 
 
+def test_cli_scheduler_option_runs_the_points_on_that_cluster(tmp_path, capsys):
+    from distributed import LocalCluster
+
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
+        code = main(["sweep", str(BUNDLED), "--vary", "field[0].a0=5,10", "--scheduler", cluster.scheduler_address,
+                     "-o", str(tmp_path / "remote.h5")])
+    assert code == 0
+    assert "2 points: 2 completed" in capsys.readouterr().out
+    local = sweep(load_scenario(BUNDLED), {"field[0].a0": [5, 10]})
+    same(table(load_sweep(tmp_path / "remote.h5")), table(local))
+
+
 def test_quantity_columns_cover_both_runs():
     assert len(quantity_columns()) == 12 and "peak_chi_undamped" in quantity_columns()

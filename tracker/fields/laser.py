@@ -19,7 +19,7 @@ SIN2_FWHM_FRACTION = 2.0 / math.pi * math.acos(2.0 ** -0.25)
 
 
 @njit(**LEAF)
-def plane_wave_field(p, i, x, y, z, t):
+def plane_wave_field(p, i, data, x, y, z, t):
     """Plane-wave pulse from the normalised vector potential a(s), s = t - n.(r - r_peak)/c.
 
     a(s) = a0 g(s) [e1 cos(w s + phase) + h e2 sin(w s + phase)],  h = 0 linear, 1 circular
@@ -56,6 +56,12 @@ def plane_wave_field(p, i, x, y, z, t):
     by = (p[i, 4] * ex - p[i, 2] * ez) * inv_c
     bz = (p[i, 2] * ey - p[i, 3] * ex) * inv_c
     return ex, ey, ez, bx, by, bz
+
+
+@njit(**LEAF)
+def plane_wave_rate(p, i, data, x, y, z, t, bx, by, bz, gamma, qm):
+    """Laser angular frequency seen by the particle, w (1 - n.beta) in rad/s (Doppler shift)."""
+    return p[i, 1] * (1.0 - (p[i, 2] * bx + p[i, 3] * by + p[i, 4] * bz))
 
 
 def a0_of(v):
@@ -119,6 +125,7 @@ MODEL = FieldModel(
     ),
     pack=_pack,
     check=_check,
+    rate_label="laser period seen by the particle",
     doc=(
         "Plane wave from a(s) = a0 g(s) cos(w s + phase) on the vector potential. `duration` is the "
         "FWHM of the intensity |a|^2 envelope; for sin2 the amplitude envelope is cos^2(pi s/T) over a "

@@ -28,6 +28,14 @@ DIMENSIONS = {
 }
 
 
+def field_param(model, name):
+    """The ``Param`` called ``name`` of a field model (KeyError if none)."""
+    for p in model.params:
+        if p.name == name:
+            return p
+    raise KeyError(name)
+
+
 def parse_key(key):
     """(section, field index or None, name, component or None) of a key path; ScenarioError if malformed."""
     match = _PATH.match(key.strip()) if isinstance(key, str) else None
@@ -53,7 +61,7 @@ def check_key(scenario, key):
         names = [p.name for p in model.params]
         if name not in names:
             raise ScenarioError(key, f"a {model.name} field has no entry {name!r}; it has {', '.join(names)}.")
-        kind = model.param(name).kind
+        kind = field_param(model, name).kind
     else:
         allowed = RUN_KEYS if section == "run" else PARTICLE_KEYS
         if name not in allowed:
@@ -103,7 +111,7 @@ def dimension(scenario, key):
     """Dimension name of the entry (a key of ``tracker.units.SI_UNITS``); 'dimensionless' for choices."""
     section, index, name, _ = parse_key(key)
     if section == "field":
-        return FIELD_MODELS[scenario.fields[index].type].param(name).dimension
+        return field_param(FIELD_MODELS[scenario.fields[index].type], name).dimension
     return DIMENSIONS.get(f"{section}.{name}", "dimensionless")
 
 

@@ -19,6 +19,7 @@ from panel.viewable import Viewer
 
 from tracker import ScenarioError, sweep
 from tracker.fields import MODELS as FIELD_MODELS
+from tracker.scan.keys import dimension, field_param
 from tracker.scan.point import QUANTITIES
 from tracker.units import SI_UNITS
 
@@ -68,7 +69,7 @@ def choices_of(key, scenario):
         return list(schema.reaction_names())
     if key.startswith("field["):
         index = int(key[6:key.index("]")])
-        param = FIELD_MODELS[scenario.fields[index].type].param(key.split(".", 1)[1])
+        param = field_param(FIELD_MODELS[scenario.fields[index].type], key.split(".", 1)[1])
         return list(param.choices) if param.kind == "choice" else []
     return []
 
@@ -305,8 +306,6 @@ class ScanView(Viewer):
         for key in scan.keys:
             column = list(scan.column(key))
             numeric = all(isinstance(v, float) for v in column)
-            from tracker.scan.keys import dimension
-
             if numeric:
                 unit_text, axis_scale = display_scale(dimension(scan.base, key), column)
                 positions = [v / axis_scale for v in column]

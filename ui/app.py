@@ -159,22 +159,23 @@ def create_app(initial_scenario_path=None):
     state.param.watch(build_plots, "prepared")
     results_tab = pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
                             sizing_mode="stretch_width", margin=0)
-    tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab)])
+    from .views.scan import ScanTab
+
+    scan = ScanTab(state, on_open=finished)
+    tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab),
+                 (TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan))])
+    tabs.param.watch(lambda event: tabs._names[event.new] == TAB_SCAN and scan.view, "active")
     spectrum_error = html_pane("", visible=False, sizing_mode="stretch_width")
     if spectrum is not None:
         tabs.append((TAB_SPECTRUM, pn.Column(spectrum_error, spectrum, sizing_mode="stretch_width")))
     elif spectrum_message:
         tabs.append((TAB_SPECTRUM, html_pane(f'<div class="ro-note">{html.escape(spectrum_message)}</div>')))
 
-    from .views.scan import ScanView
-
-    scan = ScanView(state, on_open=finished)
-    tabs.append((TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan)))
 
     if pn.state.curdoc is not None:
         # a closed tab stops its run at the next chunk instead of computing for nobody
         pn.state.on_session_destroyed(lambda _context: state.cancel_run())
-        pn.state.on_session_destroyed(lambda _context: scan.job is not None and scan.job.cancel.set())
+        pn.state.on_session_destroyed(lambda _context: scan.cancel())
 
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)

@@ -387,3 +387,29 @@ def _cell_sizes(positions):
             v + (distinct[-1] - distinct[-2]) / 2
         edges[v] = right - left
     return [edges[p] for p in positions]
+
+
+class ScanTab(Viewer):
+    """The Scan tab's content, built the first time the tab is shown (keeps page loads light)."""
+
+    def __init__(self, state, on_open=None, **params):
+        super().__init__(**params)
+        self.state, self.on_open = state, on_open
+        self._view = None
+        self._holder = pn.Column(sizing_mode="stretch_width", margin=0)
+
+    @property
+    def view(self):
+        """The ScanView (built now if the tab was never shown)."""
+        if self._view is None:
+            self._view = ScanView(self.state, on_open=self.on_open)
+            self._holder.objects = [self._view]
+        return self._view
+
+    def cancel(self):
+        """Ask a running scan to stop (a closed browser tab)."""
+        if self._view is not None and self._view.job is not None:
+            self._view.job.cancel.set()
+
+    def __panel__(self):
+        return self._holder

@@ -116,6 +116,20 @@ def test_each_row_equals_compare_on_that_point_alone():
     assert list(scan.column("run.pusher")[:2]) == ["boris", "higuera-cary"]
 
 
+def test_a_point_may_be_a_beam():
+    # a small sampled beam: rows take the beam's means (tracker.beam_result.BeamResult.summary)
+    data = small_collision().to_dict(as_entered=True)
+    data["beam"] = {**data.pop("particle"), "count": 4, "energy_spread": 0.01}
+    scan = sweep(data, {"beam.energy_spread": [0.0, 0.02], "field[0].a0": [5.0, 10.0]}, grid=False, workers=1)
+    assert scan.status_counts() == {"completed": 2}
+    for i, row in enumerate(scan.rows):
+        alone = compare(scan.scenario(i)).damped.summary()
+        assert row["final_gamma_damped"] == alone["mean_gamma"][1]
+        assert row["energy_radiated_damped"] == alone["energy_radiated"]
+    with pytest.raises(ScenarioError, match="particle.gamma: the scenario has no \\[particle\\] table"):
+        sweep(data, {"particle.gamma": [10.0]})
+
+
 def test_zip_pairs_the_lists():
     scan = sweep(small_collision(), {"field[0].a0": [5, 10, 20], "particle.kinetic_energy": [2e-11, 4e-11, 8e-11]},
                  grid=False, workers=1)

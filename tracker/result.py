@@ -148,13 +148,21 @@ class Result:
 
 
 def load_result(path):
-    """Read a Result written by ``Result.to_hdf5`` (path to .h5)."""
+    """Read a Result (``Result.to_hdf5``) or a BeamResult (``BeamResult.to_hdf5``) from .h5,
+    chosen by the file's ``format`` attribute."""
     import h5py
 
+    from .beam_result import FORMAT as BEAM_FORMAT
     from .scenario import Scenario
 
     with h5py.File(path, "r") as h5:
-        if h5.attrs.get("format") != FORMAT:
+        file_format = h5.attrs.get("format")
+    if file_format == BEAM_FORMAT:
+        from .beam_result import load_beam_result
+
+        return load_beam_result(path)
+    with h5py.File(path, "r") as h5:
+        if file_format != FORMAT:
             raise ValueError(f"{path}: not a radorbit result file.")
         arrays = {name: h5[name][()] for name in ARRAYS}
         scenario = Scenario.from_toml(str(h5.attrs["scenario_toml"]))

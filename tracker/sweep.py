@@ -62,7 +62,7 @@ def build_points(base, vary, grid):
     for k in keys:
         keypaths.check_key(base, k)
     combos = list(itertools.product(*(v for _, v in vary)) if grid else zip(*(v for _, v in vary)))
-    data = base.to_dict()
+    data = base.to_dict(as_entered=True)   # the user's own text ("1 GeV") stays in every point
     data.pop("sweep", None)
     points = []
     for i, combo in enumerate(combos):
@@ -70,7 +70,7 @@ def build_points(base, vary, grid):
         for k, v in zip(keys, combo):
             keypaths.set_value(point, k, v)
         try:
-            points.append(Scenario.from_dict(point))
+            points.append(Scenario.from_dict(point, base_dir=base.base_dir))
         except ScenarioError as exc:
             raise ScenarioError(exc.key, f"{_message(exc)} (at point {i} of {len(combos)}: "
                                          f"{_describe(keys, combo)})") from None
@@ -301,6 +301,9 @@ def sweep(scenario, vary=None, grid=None, client=None, progress=None, cancel=Non
     if keep not in KEEP_CHOICES:
         raise ScenarioError("keep", f"must be one of {', '.join(map(repr, KEEP_CHOICES))}, not {keep!r}.")
     base = _as_scenario(scenario)
+    if keep == "results" and base.beam is not None:
+        raise ScenarioError("keep", "keeping every point's runs works for one particle; for a beam, "
+                                    "SweepResult.point(i) re-runs the point.")
     vary, grid = _resolve_vary(base, vary, grid)
     points, combos = build_points(base, vary, grid)
     texts = [p.to_toml() for p in points]

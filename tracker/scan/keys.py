@@ -11,22 +11,15 @@ import re
 from ..errors import ScenarioError
 from ..fields import MODELS as FIELD_MODELS
 
-_PATH = re.compile(r"^(?:(run|particle)\.([a-z_0-9]+)|field\[(\d+)\]\.([A-Za-z_0-9]+))(?:\[(\d)\])?$")
+_PATH = re.compile(r"^(?:(run|particle|beam)\.([a-z_0-9]+)|field\[(\d+)\]\.([A-Za-z_0-9]+))(?:\[(\d)\])?$")
 
 #: entries that replace each other: giving one drops the others of its group
 EXCLUSIVE = {
     "particle": (("gamma", "kinetic_energy", "speed", "momentum", "u"),),
+    "beam": (("gamma", "kinetic_energy", "speed", "momentum", "u"),),
     "run": (("dt", "steps_per_period"),),
     "field": (("a0", "E0"),),
 }
-
-#: dimension of each scalar or vector [run]/[particle] entry (field entries carry theirs in the registry)
-DIMENSIONS = {
-    "run.duration": "time", "run.dt": "time", "run.dt_min": "time", "run.dt_max": "time",
-    "particle.position": "length", "particle.kinetic_energy": "energy", "particle.speed": "velocity",
-    "particle.momentum": "momentum", "particle.mass": "mass", "particle.charge": "charge",
-}
-
 
 def field_param(model, name):
     """The ``Param`` called ``name`` of a field model (KeyError if none)."""
@@ -40,7 +33,7 @@ def parse_key(key):
     """(section, field index or None, name, component or None) of a key path; ScenarioError if malformed."""
     match = _PATH.match(key.strip()) if isinstance(key, str) else None
     if match is None:
-        raise ScenarioError(str(key), "is not a key path; write run.NAME, particle.NAME or field[i].NAME "
+        raise ScenarioError(str(key), "is not a key path; write run.NAME, particle.NAME, beam.NAME or field[i].NAME "
                                       "(optionally [k] for one vector component).")
     section, name, index, field_name, component = match.groups()
     if index is not None:
@@ -50,7 +43,7 @@ def parse_key(key):
 
 def check_key(scenario, key):
     """Refuse a key path the scenario cannot take (unknown table, entry or field component)."""
-    from ..scenario import PARTICLE_KEYS, RUN_KEYS
+    from ..scenario import BEAM_KEYS, PARTICLE_KEYS, RUN_KEYS
 
     section, index, name, component = parse_key(key)
     if section == "field":
@@ -63,10 +56,13 @@ def check_key(scenario, key):
             raise ScenarioError(key, f"a {model.name} field has no entry {name!r}; it has {', '.join(names)}.")
         kind = field_param(model, name).kind
     else:
-        allowed = RUN_KEYS if section == "run" else PARTICLE_KEYS
+        allowed = {"run": RUN_KEYS, "particle": PARTICLE_KEYS, "beam": BEAM_KEYS}[section]
+        if section != "run" and (section == "beam") != (scenario.beam is not None):
+            raise ScenarioError(key, f"the scenario has no [{section}] table (it tracks "
+                                     f"{'a beam' if scenario.beam is not None else 'one particle'}).")
         if name not in allowed:
             raise ScenarioError(key, f"[{section}] has no entry {name!r}; it has {', '.join(allowed)}.")
-        kind = "vector" if name in ("position", "direction", "momentum", "u") else "scalar"
+        kind = _inputs(section)[name].kind
     if component is not None and (kind != "vector" or component > 2):
         raise ScenarioError(key, "a component [k] (k = 0, 1, 2) applies only to a vector entry.")
 
@@ -112,7 +108,15 @@ def dimension(scenario, key):
     section, index, name, _ = parse_key(key)
     if section == "field":
         return field_param(FIELD_MODELS[scenario.fields[index].type], name).dimension
-    return DIMENSIONS.get(f"{section}.{name}", "dimensionless")
+    entry = _inputs(section)[name]
+    return entry.dimension if entry.kind in ("scalar", "vector", "list", "transverse") else "dimensionless"
+
+
+def _inputs(section):
+    """{name: Input} of the [run], [particle] or [beam] descriptors (tracker.inputs)."""
+    from .. import inputs
+
+    return {"run": inputs.RUN, "particle": inputs.PARTICLE, "beam": inputs.BEAM}[section]
 
 
 def unit(scenario, key):

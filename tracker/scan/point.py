@@ -15,7 +15,7 @@ RUNS = ("damped", "undamped")
 
 #: summary quantities of each run: name -> (label, SI unit); taken from Result.summary()
 QUANTITIES = {
-    "final_gamma": ("final γ", ""),
+    "final_gamma": ("final γ (beam: mean)", ""),
     "energy_radiated": ("energy radiated", "J"),
     "fraction_radiated": ("fraction of the initial kinetic energy radiated", ""),
     "peak_power": ("peak Liénard power", "W"),
@@ -58,19 +58,27 @@ def summary_row(comparison):
     stops = []
     for run in RUNS:
         result = getattr(comparison, run)
-        s = result.summary()
-        row[f"final_gamma_{run}"] = float(result.gamma[-1])
-        row[f"energy_radiated_{run}"] = s["energy_radiated"]
-        row[f"fraction_radiated_{run}"] = s["fraction_lost"]
-        row[f"peak_power_{run}"] = s["peak_power"]
-        row[f"peak_chi_{run}"] = s["peak_chi"]
-        row[f"energy_balance_residual_{run}"] = s["energy_balance_residual"]
+        row.update({f"{name}_{run}": value for name, value in run_quantities(result).items()})
         row[f"warnings_{run}"] = ",".join(sorted({w["kind"] for w in result.warnings}))
         if not result.complete:
             stops.append(f"{run}: {result.meta.get('stop_reason', 'stopped')}")
     row["status"] = STOPPED if stops else COMPLETED
     row["error"] = "; ".join(stops)
     return row
+
+
+def run_quantities(result):
+    """QUANTITIES of one run: a Result, or a BeamResult (means over the beam; no peak power or
+    energy balance per beam, NaN)."""
+    s = result.summary()
+    if "mean_gamma" in s:   # tracker.beam_result.BeamResult
+        nan = float("nan")
+        return {"final_gamma": float(s["mean_gamma"][1]), "energy_radiated": s["energy_radiated"],
+                "fraction_radiated": s["fraction_lost"], "peak_power": nan, "peak_chi": s["peak_chi"],
+                "energy_balance_residual": nan}
+    return {"final_gamma": float(result.gamma[-1]), "energy_radiated": s["energy_radiated"],
+            "fraction_radiated": s["fraction_lost"], "peak_power": s["peak_power"], "peak_chi": s["peak_chi"],
+            "energy_balance_residual": s["energy_balance_residual"]}
 
 
 def result_to_plain(result):

@@ -40,7 +40,8 @@ def scan_keys(scenario):
     """{key path: (label, dimension, current value)} a scan of ``scenario`` may vary.
 
     Scalar and choice entries present in the scenario: field parameters from the field
-    registry, particle and run entries from the forms' schema, pusher and damping model.
+    registry, particle and run entries from the forms' schema, beam entries from
+    ``tracker.inputs``, pusher and damping model.
     """
     if scenario is None:
         return {}
@@ -51,7 +52,10 @@ def scan_keys(scenario):
         for p in model.params:
             if p.kind in ("scalar", "choice") and p.name in f:
                 out[f"field[{i}].{p.name}"] = (f"field[{i}] {model.name}: {p.name}", p.dimension, f[p.name])
-    for section, entries in (("particle", schema.PARTICLE_ENTRIES), ("run", schema.RUN_ENTRIES)):
+    from tracker import inputs
+
+    for section, entries in (("particle", schema.PARTICLE_ENTRIES), ("beam", inputs.BEAM),
+                             ("run", schema.RUN_ENTRIES)):
         table = data.get(section, {})
         for name, entry in entries.items():
             if entry.kind in ("scalar", "integer") and name in table:
@@ -112,7 +116,8 @@ class ScanJob:
 
     def _work(self):
         try:
-            self.result = sweep(self.scenario, self.vary, keep="results", progress=self._progress, cancel=self.cancel)
+            keep = "results" if self.scenario.beam is None else None   # beams: too large to keep per point
+            self.result = sweep(self.scenario, self.vary, keep=keep, progress=self._progress, cancel=self.cancel)
         except ScenarioError as exc:
             self.error = str(exc)
         except Exception as exc:  # one line on the page, never a traceback
@@ -366,6 +371,11 @@ class ScanView(Viewer):
         from . import prepare_drawing
 
         scan = self.result
+        if i not in scan.results:
+            # a beam scan keeps no runs; re-running one here would block the page
+            self._say(f"point {i}: the runs of a beam scan are not kept; run that point from the sidebar "
+                      "(or `SweepResult.point(i)` in Python).")
+            return
         comparison = scan.point(i)
         given = ", ".join(f"{k} = {v}" for k, v in zip(scan.keys, scan.given(i)))
         self.state.param.update(run_scenario=scan.scenario(i), comparison=comparison,

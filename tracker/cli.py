@@ -1,4 +1,4 @@
-"""The ``radorbit`` command: run, check, fieldmap, lab, spectrum. Thin wrappers over the Python API."""
+"""The ``radorbit`` command: run, check, fieldmap, lab, spectrum, sweep. Thin wrappers over the Python API."""
 
 import argparse
 import sys
@@ -295,6 +295,10 @@ def build_parser():
     spectrum.add_argument("--method", choices=("direct", "nufft", "synchrotron"), default="nufft")
     spectrum.add_argument("-o", "--output", help="write the table (.h5 or .csv)")
     spectrum.set_defaults(func=cmd_spectrum)
+
+    from .scan.cli import add_parser as add_sweep_parser
+
+    add_sweep_parser(sub)
     return parser
 
 

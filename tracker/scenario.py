@@ -42,7 +42,7 @@ SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
 RUN_KEYS = tuple(inputs.RUN)
 PARTICLE_KEYS = tuple(inputs.PARTICLE)
 BEAM_KEYS = tuple(inputs.BEAM)
-TOP_KEYS = ("title", "description", "run", "particle", "beam", "field")
+TOP_KEYS = ("title", "description", "run", "particle", "beam", "field", "sweep")
 
 
 @dataclass(frozen=True)
@@ -169,6 +169,7 @@ class Scenario:
     description: str = ""
     beam: BeamSpec | None = None
     entered: tuple = ()
+    sweep: object = None  #: tracker.scan.spec.SweepSpec of a [sweep] table (a scan), or None
     base_dir: str | None = field(default=None, compare=False)
 
     # ------------------------------------------------------------------ building
@@ -210,11 +211,14 @@ class Scenario:
             description=data.get("description", ""),
             beam=beam,
             entered=_entered(data),
+            sweep=_parse_sweep(data),
             base_dir=base_dir,
         )
         if beam is not None:
             scenario.initial_particles()  # sampling limits (gamma >= 1) belong to validation
         scenario.plan()  # resolution and size checks belong to validation
+        if scenario.sweep is not None:
+            scenario.sweep.check_keys(scenario)
         return scenario
 
     @classmethod
@@ -251,6 +255,8 @@ class Scenario:
         if as_entered:
             for path, raw in self.entered:
                 _put(out, path, _thaw(raw))
+        if self.sweep is not None:
+            out["sweep"] = self.sweep.to_dict()
         return out
 
     def to_toml(self):
@@ -370,6 +376,15 @@ def load_scenario(path):
 
 
 # ---------------------------------------------------------------------- parsing helpers
+def _parse_sweep(data):
+    """The optional [sweep] table (tracker.scan.spec); None when absent."""
+    if "sweep" not in data:
+        return None
+    from .scan.spec import parse_sweep_table
+
+    return parse_sweep_table(data["sweep"])
+
+
 def _table(value, key):
     if not isinstance(value, dict):
         raise ScenarioError(key, f"must be a table, not {value!r}.")

@@ -54,4 +54,7 @@ def scenario_toml(data):
         model = FIELD_MODELS[f["type"]]
         units = {p.name: p.unit for p in model.params}
         lines += ["", "[[field]]", *_lines(f, units)]
+    if "sweep" in data:
+        lines += ["", "[sweep]", f"grid = {_value(data['sweep']['grid'])}", "", "[sweep.vary]"]
+        lines += [f"{json.dumps(key)} = {_value(values)}" for key, values in data["sweep"]["vary"].items()]
     return "\n".join(lines) + "\n"

@@ -23,7 +23,7 @@ import numpy as np
 from . import constants as k
 from . import species as sp
 from .config import DEFAULT_MAX_STEPS, FIELD_PARAMS
-from .errors import ScenarioError
+from .errors import ScenarioError, brief
 from .fields import MODELS as FIELD_MODELS
 from .fields.base import ABSENT, REQUIRED, unit_vector
 from .pushers import PUSHERS
@@ -77,13 +77,15 @@ class ParticleSpec:
         mc = self.mass * k.c
         if key == "u":
             return np.array(value, dtype=float)
-        if key == "momentum":
+        if key == "momentum" and isinstance(value, tuple):
             return np.array(value, dtype=float) / mc
         if key == "gamma":
             magnitude = math.sqrt(value * value - 1.0)
         elif key == "kinetic_energy":
             g = 1.0 + value / (self.mass * k.c**2)
             magnitude = math.sqrt(g * g - 1.0)
+        elif key == "momentum":  # a scalar |p| with a direction
+            magnitude = value / mc
         else:  # speed
             beta = value / k.c
             magnitude = beta / math.sqrt(1.0 - beta * beta)
@@ -149,17 +151,18 @@ class Scenario:
             title=data.get("title", ""),
             description=data.get("description", ""),
         )
+        from .plausibility import check_plausible
+
+        check_plausible(scenario, data)
         scenario.plan()  # resolution and size checks belong to validation
         return scenario
 
     @classmethod
     def from_toml(cls, text):
         """Parse TOML text; syntax errors become ScenarioError."""
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise ScenarioError("", f"not valid TOML: {exc}") from None
-        return cls.from_dict(data)
+        from .plausibility import toml_table
+
+        return cls.from_dict(toml_table(text))
 
     def to_dict(self):
         """Plain nested dict in SI; ``from_dict(to_dict())`` gives an equal Scenario."""
@@ -216,12 +219,21 @@ class Scenario:
     def fields_at(self, x, t):
         """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
 
+        ``t`` is one time for all positions or one time per position (shape (n,)).
         Uses the same compiled evaluator as the pusher.
         """
         from .fields.evaluate import evaluate
+        from .plausibility import times_for_points
 
         kinds, params = self.field_table
-        return evaluate(kinds, params, x, t)
+        points, times = times_for_points(x, t)
+        if times is None:
+            return evaluate(kinds, params, points, t if np.ndim(t) == 0 else float(np.asarray(t).ravel()[0]))
+        e, b = np.empty_like(points), np.empty_like(points)
+        for when in np.unique(times):
+            at = times == when
+            e[at], b[at] = evaluate(kinds, params, points[at], float(when))
+        return e, b
 
     def plan(self):
         """The run plan (dt, steps, saved states, memory); raises ScenarioError if too large."""
@@ -237,11 +249,9 @@ class Scenario:
 def load_scenario(path):
     """Read and validate a scenario TOML file (path to a .toml file)."""
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ScenarioError("", f"cannot read scenario file {str(path)!r}: {exc.strerror}.") from None
-    return Scenario.from_toml(text)
+    from .plausibility import read_scenario_text
+
+    return Scenario.from_toml(read_scenario_text(path))
 
 
 # ---------------------------------------------------------------------- parsing helpers
@@ -265,15 +275,23 @@ def _merge(data, section, changes):
     return data
 
 
+#: largest whole number accepted for counts (save_every, max_steps): above it the
+#: float64 kernel plan row no longer holds it exactly (2^53).
+MAX_COUNT = 2**53
+
+
 def _integer(value, key, minimum=1):
-    if isinstance(value, bool) or not isinstance(value, (int, float)) or value != int(value) or value < minimum:
-        raise ScenarioError(key, f"must be a whole number >= {minimum}, not {value!r}.")
+    if (isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value)
+            or value != int(value) or value < minimum):
+        raise ScenarioError(key, f"must be a whole number >= {minimum}, not {brief(value)}.")
+    if value > MAX_COUNT:
+        raise ScenarioError(key, f"must be at most 2^53 = {MAX_COUNT:.4g}, not {brief(value)}.")
     return int(value)
 
 
 def _choice(value, choices, key):
-    if value not in choices:
-        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {value!r}.")
+    if not isinstance(value, str) or value not in choices:
+        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {brief(value)}.")
     return value
 
 
@@ -368,7 +386,8 @@ def _parse_particle(raw):
     key = given[0]
     where = f"particle.{key}"
     direction = None
-    if key in SCALAR_MOMENTUM_KEYS:
+    scalar_momentum = key == "momentum" and not isinstance(raw[key], (list, tuple))
+    if key in SCALAR_MOMENTUM_KEYS or scalar_momentum:
         if "direction" not in raw:
             raise ScenarioError("particle.direction", f"is required with {key} (a vector; it is normalised for you).")
         direction = unit_vector(parse_vector(raw["direction"], "dimensionless", "particle.direction"),
@@ -379,6 +398,10 @@ def _parse_particle(raw):
                 raise ScenarioError(where, f"must be at least 1, not {raw[key]!r}.")
         elif key == "kinetic_energy":
             value = parse_scalar(raw[key], "energy", where)
+            if not value >= 0.0:
+                raise ScenarioError(where, f"must not be negative, not {raw[key]!r}.")
+        elif key == "momentum":
+            value = parse_scalar(raw[key], "momentum", where)
             if not value >= 0.0:
                 raise ScenarioError(where, f"must not be negative, not {raw[key]!r}.")
         else:
@@ -406,9 +429,10 @@ def _parse_field(raw, index):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
-    model = FIELD_MODELS.get(raw["type"])
+    model = FIELD_MODELS.get(raw["type"]) if isinstance(raw["type"], str) else None
     if model is None:
-        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, not {raw['type']!r}.")
+        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, "
+                                           f"not {brief(raw['type'])}.")
     allowed = ("type",) + tuple(p.name for p in model.params)
     _reject_unknown(raw, allowed, key)
     values = []

@@ -11,6 +11,11 @@ from .errors import ScenarioError
 
 #: default adaptive range: dt_min = dt0 / 1000, dt_max = 1000 dt0
 ADAPTIVE_RANGE_DEFAULT = 1000.0
+#: steps per period of the fastest initial time scale below which a plan is refused: at
+#: 4 steps (theta = pi/2 per step) the Boris rotation angle 2 arctan(theta/2) is already
+#: 15 % short, and a laser period sampled fewer than ~2 times is not seen at all (a
+#: 120 fs step across a 25 fs pulse radiated nothing). Common practice, no source.
+MIN_PLAN_STEPS_PER_PERIOD = 4.0
 
 
 @dataclass(frozen=True)
@@ -34,6 +39,7 @@ class RunPlan:
     adaptive: bool = False
     dt_min: float = 0.0
     dt_max: float = 0.0
+    warnings: tuple = ()  #: validity-style records (kind, message, time s) the run carries
 
 
 def human_bytes(n):
@@ -92,7 +98,15 @@ def make_plan(scenario):
     if not (math.isfinite(dt_wanted) and dt_wanted > 0):
         raise ScenarioError("run.steps_per_period", f"the fastest time scale at the start ({source}) is "
                                                     f"{period!r} s: no usable step; give run.dt instead.")
-    steps = max(1, math.ceil(run.duration / dt_wanted * (1.0 - 1e-12)))
+    steps_wanted = run.duration / dt_wanted
+    if not (math.isfinite(steps_wanted) and steps_wanted <= run.max_steps):
+        raise ScenarioError(
+            "run.max_steps",
+            f"the plan needs {steps_wanted:.4g} steps (dt = {dt_wanted:.4g} s over {run.duration:.4g} s), more "
+            f"than max_steps = {run.max_steps:,}. Raise run.max_steps, shorten run.duration or give a coarser "
+            "resolution.",
+        )
+    steps = max(1, math.ceil(steps_wanted * (1.0 - 1e-12)))
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
     memory = saved * BYTES_PER_SAVED_STATE
@@ -104,11 +118,39 @@ def make_plan(scenario):
             "Raise run.max_steps, shorten run.duration or give a coarser resolution.",
         )
     if not run.adaptive:
-        return RunPlan(dt, steps, run.save_every, saved, memory, period, source, period / dt if period else None)
+        spp = period / dt if period else None
+        return RunPlan(dt, steps, run.save_every, saved, memory, period, source, spp,
+                       warnings=resolution_notes(run, spp, source))
     if period is None:
         raise ScenarioError("run.adaptive", "needs a magnetic field or laser at the start to set the first step.")
     # defaults (common practice, no source): three decades either side of the first step
     dt_min = run.dt_min if run.dt_min is not None else dt_wanted * ADAPTIVE_RANGE_DEFAULT**-1
     dt_max = run.dt_max if run.dt_max is not None else min(dt_wanted * ADAPTIVE_RANGE_DEFAULT, run.duration)
     dt0 = min(max(dt_wanted, dt_min), dt_max)
-    return RunPlan(dt0, steps, run.save_every, saved, memory, period, source, period / dt0, True, dt_min, dt_max)
+    return RunPlan(dt0, steps, run.save_every, saved, memory, period, source, period / dt0, True, dt_min, dt_max,
+                   warnings=resolution_notes(run, period / dt0, source))
+
+
+def resolution_notes(run, steps_per_period, source):
+    """Warnings of a plan whose step under-resolves the fastest initial time scale.
+
+    Refuses (ScenarioError) below ``MIN_PLAN_STEPS_PER_PERIOD``; returns a tuple with one
+    "resolution" record below ``validity.MIN_STEPS_PER_PERIOD`` (the bound the run's
+    checks use), else an empty tuple.
+    """
+    from .validity import MIN_STEPS_PER_PERIOD, warning
+
+    if steps_per_period is None or steps_per_period >= MIN_STEPS_PER_PERIOD:
+        return ()
+    key = "run.dt" if run.dt is not None else "run.steps_per_period"
+    need = math.ceil(MIN_STEPS_PER_PERIOD)
+    if run.dt is not None:
+        advice = f"lower run.dt to <= {run.dt * steps_per_period / MIN_STEPS_PER_PERIOD:.3g} s"
+    else:
+        advice = f"raise run.steps_per_period to >= {need}"
+    text = (f"the step resolves the {source} with only {steps_per_period:.3g} steps per period "
+            f"(at least {MIN_STEPS_PER_PERIOD:.0f} keep the phase error below 1 % per period)")
+    if steps_per_period < MIN_PLAN_STEPS_PER_PERIOD:
+        raise ScenarioError(key, f"{text}; below {MIN_PLAN_STEPS_PER_PERIOD:.0f} the orbit and its radiation are "
+                                 f"meaningless. Advice: {advice}.")
+    return (warning("resolution", f"planned {text}. Advice: {advice}.", 0.0),)

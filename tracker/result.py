@@ -71,8 +71,26 @@ class Result:
 
     @property
     def complete(self):
-        """False when the run was cancelled or stopped early (partial result)."""
-        return bool(self.meta.get("complete", False))
+        """False when the run was cancelled or stopped early (partial result), or when a
+        check found it wrong (a warning of a kind in ``validity.FAILING_KINDS``, e.g. an
+        energy balance that fails)."""
+        from .validity import FAILING_KINDS
+
+        if not self.meta.get("complete", False):
+            return False
+        return not any(w.get("kind") in FAILING_KINDS for w in self.warnings)
+
+    @property
+    def status(self):
+        """One word or phrase for people: 'completed', the stop reason, or why a finished
+        run is not to be trusted ('failed check: energy-balance')."""
+        from .validity import FAILING_KINDS
+
+        reason = str(self.meta.get("stop_reason", ""))
+        if not self.meta.get("complete", False):
+            return reason or "incomplete"
+        failed = sorted({w.get("kind") for w in self.warnings if w.get("kind") in FAILING_KINDS})
+        return f"failed check: {', '.join(failed)}" if failed else (reason or "completed")
 
     def energy_balance_residual(self):
         """[Delta KE - (field work - radiated)] relative to the largest energy in the balance.

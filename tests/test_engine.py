@@ -5,7 +5,7 @@ from pathlib import Path
 import pytest
 
 from tracker import load_scenario, track
-from tracker.kernel import run_chunk
+from tracker.kernel import run_blocks, run_single
 
 SCENARIOS = sorted((Path(__file__).resolve().parent.parent / "scenarios").glob("*.toml"))
 
@@ -19,7 +19,7 @@ def test_one_compiled_kernel_serves_every_field_model_pusher_and_damping():
         for pusher in PUSHERS:
             for damping in MODELS:
                 track(s.with_run(pusher=pusher, radiation_reaction=damping))
-    assert len(run_chunk.signatures) == 1
+    assert len(run_single.signatures) == 1
 
 
 def test_progress_reports_increasing_fractions_up_to_one(monkeypatch):

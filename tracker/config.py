@@ -18,6 +18,8 @@ LEAF = dict(KERNEL, inline="always")
 
 #: parameter slots per field component in the field table.
 FIELD_PARAMS = 24
+#: the last slot of a row holds the offset of the row's block in the bulk ``data`` array
+DATA_OFFSET_SLOT = FIELD_PARAMS - 1
 
 #: steps per fastest period when the scenario gives neither dt nor
 #: steps_per_period (common practice, no source: Boris phase error ~ theta^2/24).

@@ -1,4 +1,10 @@
-"""Turn a Scenario into a Result: compile to arrays, run the kernel in chunks, collect."""
+"""Turn a Scenario into a Result: compile to a Bundle, run the kernels in chunks, collect.
+
+One particle ([particle]) gives a ``Result``; a beam gives a ``BeamResult``. Both run
+the same compiled step (``tracker.step.advance``): one particle through
+``kernel.run_single``, a beam through ``kernel.run_blocks`` (blocks of particles over
+all cores). Between chunks the engine reports progress and checks for cancellation.
+"""
 
 import math
 import time
@@ -7,31 +13,34 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import constants as k
+from .compile import compile_scenario
 from .config import CHUNK_STEPS
-from .kernel import (FINISHED, NONFINITE, PL_ADAPTIVE, PL_DAMPING, PL_DT, PL_DTMAX, PL_DTMIN, PL_LAST,
-                     PL_PUSHER, PL_SAVE, PL_SPP, PL_TEND, PLAN_SIZE, ST_BPREV, ST_DTPREV, ST_EPREV, ST_STEP,
-                     ST_KICK, ST_T, ST_U, ST_X, STATE_SIZE, run_chunk)
-from .pushers import PUSHERS
-from .pushers.dispatch import push
-from .radiation.power import chi_parameter, chi_scale, power_scale, transverse_force_squared
-from .radiation.quantum import gaunt_factor
-from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, ll_kick
-from .radiation.reaction import MODELS as RR_MODELS
+from .kernel import NSTAT, reduce_partials, run_blocks, run_single
 from .result import Result
+from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_GRID, PL_INTERVAL, PL_LAST, RUNNING, SAVED, STATUS,
+                   STEP, T, X)
 
 STOP_COMPLETED = "completed"
 STOP_CANCELLED = "cancelled"
 STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
 STOP_MAX_STEPS = "max_steps reached before the end of the run"
+STOP_KICK = "radiation kick too large for one step (run stopped, last good state kept): use a finer step"
+STOP_LEFT_DOMAIN = "left the domain of a field model"
+
+#: per-particle stop codes of a BeamResult (``lost``); 0 = ran to the end
+LOST_NONE, LOST_NONFINITE, LOST_KICK, LOST_MAX_STEPS, LOST_DOMAIN = 0, 1, 2, 3, 4
+LOST_REASONS = {LOST_NONFINITE: STOP_NONFINITE, LOST_KICK: STOP_KICK, LOST_MAX_STEPS: STOP_MAX_STEPS,
+                LOST_DOMAIN: STOP_LEFT_DOMAIN}
+
+ARRAY_NAMES = ("t", "dt", "x", "u", "gamma", "power", "radiated_energy", "field_work", "chi")
 
 
 @dataclass
 class Comparison:
     """The same scenario with (``damped``) and without (``undamped``) radiation reaction."""
 
-    damped: Result
-    undamped: Result
+    damped: object
+    undamped: object
 
 
 def _is_cancelled(cancel):
@@ -42,119 +51,133 @@ def _is_cancelled(cancel):
     return bool(cancel())
 
 
-def species_row(scenario):
-    """[q/m (C/kg), tau0 (s), q^2 tau0/m, |q| hbar/(m^2 c^3), q (C)] for the kernel."""
-    q, m = scenario.particle.charge, scenario.particle.mass
-    return np.array([q / m, k.tau0(q, m), power_scale(q, m), chi_scale(q, m), q], dtype=np.float64)
+def _buffers(slots, n):
+    """Saved-state buffers of ``slots`` states for ``n`` particles, NaN where a particle saved nothing."""
+    out = {name: np.full((slots, n), np.nan) for name in ARRAY_NAMES}
+    out["x"] = np.full((slots, n, 3), np.nan)
+    out["u"] = np.full((slots, n, 3), np.nan)
+    return out
 
 
-def initial_state(scenario, dt):
-    """Kernel state at t = 0: u^{-1/2} (half a step back), fields one step back, the first kick.
+def _chunk_plan(bundle):
+    """(steps per kernel call, saved-state capacity per call) for a fixed-step run."""
+    n = bundle.count
+    save_every = bundle.plan.save_every
+    steps = max(1, CHUNK_STEPS // n)
+    steps = max(save_every, (steps // save_every) * save_every)
+    return steps, steps // save_every + 2
 
-    u is stepped back half a step with the Lorentz force and half a radiation-reaction
-    kick; the kick at (x0, u0) also seeds the kernel's prediction of the next kick.
-    Without the radiation half step the damping would start dt/2 late, a relative
-    gamma error ~ gamma0 dt/(2 tau_B) that only first-order converges.
+
+def _fraction_done(state, bundle, duration):
+    alive = state[STATUS] == RUNNING
+    if bundle.plan.adaptive:
+        t = np.where(alive, state[T], duration)
+        return float(min(1.0, np.min(t) / duration))
+    steps = np.where(alive, state[STEP], bundle.plan.steps)
+    return float(min(1.0, np.min(steps) / bundle.plan.steps))
+
+
+def _stop_reason(scenario, bundle, state):
+    """(run stop reason, per-particle lost codes (N,) int8) from the kernel's status codes."""
+    status = state[STATUS]
+    lost = np.zeros(bundle.count, dtype=np.int8)
+    lost[status == NONFINITE] = LOST_NONFINITE
+    lost[status == KICK_TOO_LARGE] = LOST_KICK
+    short = (status == FINISHED) & (state[T] < scenario.run.duration * (1.0 - 1e-9))
+    lost[short] = LOST_MAX_STEPS
+    for j in np.flatnonzero(lost == LOST_NONFINITE):
+        if outside_reason(scenario, state[X:X + 3, j]) is not None:
+            lost[j] = LOST_DOMAIN
+    if np.any(status == RUNNING):
+        return STOP_CANCELLED, lost
+    if lost.size and np.all(lost != LOST_NONE):
+        return LOST_REASONS[int(lost[0])], lost
+    if bundle.count == 1 or np.all(lost == LOST_NONE):
+        return STOP_COMPLETED, lost
+    return STOP_COMPLETED, lost
+
+
+def outside_reason(scenario, x):
+    """Text naming the field model whose domain the position x (3,) m is outside of, or None."""
+    for i, f in enumerate(scenario.fields):
+        if f.model.outside is not None:
+            reason = f.model.outside(f.params, np.asarray(x, dtype=float))
+            if reason:
+                return f"field[{i}]: {reason}"
+    return None
+
+
+def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
+    """Run a compiled Bundle to the end (or until cancelled).
+
+    Returns (arrays dict of (n_saved, N[, 3]) or None, statistics array (n_saved, NSTAT),
+    final state (STATE_SIZE, N), wall time s, kernel load time s).
     """
-    p = scenario.particle
-    run = scenario.run
-    x0 = np.array(p.position, dtype=float)
-    u0 = p.u
-    e0, b0 = scenario.fields_at(x0[None, :], 0.0)
-    e0, b0 = e0[0], b0[0]
-    qm = p.charge / p.mass
-    h = -0.5 * dt
-    u_half = np.array(push(PUSHERS[run.pusher], u0[0], u0[1], u0[2],
-                           *(0.5 * qm * h / k.c * e0), *(0.5 * qm * h * b0)))
-    gamma0 = math.sqrt(1.0 + float(u0 @ u0))
-    kick = np.zeros(3)
-    damping = RR_MODELS[run.radiation_reaction]
-    if damping != NONE:
-        beta = u0 / gamma0
-        f2 = transverse_force_squared(*beta, *e0, *b0)
-        kick = np.array(ll_kick(dt, qm, k.tau0(p.charge, p.mass), gamma0, *beta, *e0, *b0,
-                                0.0, 0.0, 0.0, 0.0, 0.0, 0.0, f2))
-        if damping == LANDAU_LIFSHITZ_QUANTUM:
-            kick *= gaunt_factor(chi_parameter(chi_scale(p.charge, p.mass), gamma0, f2))
-        u_half -= 0.5 * kick
-    x_back = x0 - k.c * dt * u0 / gamma0
-    e_back, b_back = scenario.fields_at(x_back[None, :], -dt)
-    state = np.zeros(STATE_SIZE)
-    state[ST_X:ST_X + 3] = x0
-    state[ST_U:ST_U + 3] = u_half
-    state[ST_EPREV:ST_EPREV + 3] = e_back[0]
-    state[ST_BPREV:ST_BPREV + 3] = b_back[0]
-    state[ST_DTPREV] = dt
-    state[ST_KICK:ST_KICK + 3] = kick
-    return state
-
-
-def plan_row(scenario, plan):
-    """The kernel's float64 plan row (see tracker.kernel PL_* slots)."""
-    run = scenario.run
-    row = np.zeros(PLAN_SIZE)
-    row[PL_DT] = plan.dt
-    row[PL_LAST] = plan.steps if not plan.adaptive else run.max_steps
-    row[PL_SAVE] = plan.save_every
-    row[PL_PUSHER] = PUSHERS[run.pusher]
-    row[PL_DAMPING] = RR_MODELS[run.radiation_reaction]
-    row[PL_ADAPTIVE] = 1.0 if plan.adaptive else 0.0
-    row[PL_SPP] = plan.steps_per_period or 0.0
-    row[PL_DTMIN] = plan.dt_min
-    row[PL_DTMAX] = plan.dt_max
-    row[PL_TEND] = run.duration
-    return row
-
-
-def track(scenario, progress=None, cancel=None):
-    """Integrate one scenario and return its Result (SI units throughout).
-
-    Parameters
-    ----------
-    scenario : Scenario
-    progress : callable(fraction: float), optional
-        Called between chunks of ``config.CHUNK_STEPS`` steps with the fraction done.
-    cancel : threading.Event or callable() -> bool, optional
-        Checked between chunks; a cancelled run returns the states computed so far
-        with ``meta["complete"] = False`` and ``meta["stop_reason"] = "cancelled"``.
-    """
-    plan = scenario.plan()
-    kinds, params = scenario.field_table
-    state = initial_state(scenario, plan.dt)
-    species = species_row(scenario)
-    row = plan_row(scenario, plan)
-    chunk = max(plan.save_every, (CHUNK_STEPS // plan.save_every) * plan.save_every)
-    capacity = chunk // plan.save_every + 2
-    pieces = []
-    stop = STOP_COMPLETED
-    # a zero-step call loads (or compiles) the kernel, so wall_time measures the run alone
+    state = np.array(bundle.state)  # writable copy; the Bundle stays read-only
+    n = bundle.count
+    single = n == 1
+    table = bundle.table
+    sp, pl = bundle.species, bundle.plan_row
+    grid = pl[PL_GRID] != 0.0
+    interval = pl[PL_INTERVAL]
+    duration = scenario.run.duration
+    pieces, stat_pieces = [], []
     load_start = time.perf_counter()
-    run_chunk(kinds, params, species, row, state, 0, *_buffers(1).values())
+    if single:
+        run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values())
+    else:
+        run_blocks(*table, sp, pl, state.copy(), bundle.weight, 0, math.inf, 0, True,
+                   *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)))
     load_time = time.perf_counter() - load_start
     start = time.perf_counter()
+    slot_base = 0
+    if grid:
+        windows = max(1, round(CHUNK_STEPS / (n * bundle.plan.save_every)))
+        t_stop = 0.0
+    steps, capacity = _chunk_plan(bundle)
     while True:
-        buffers = _buffers(capacity)
-        saved, status = run_chunk(kinds, params, species, row, state, chunk, *buffers.values())
-        pieces.append({name: a[:saved] for name, a in buffers.items()})
+        if grid:
+            t_stop = t_stop + windows * interval
+            last = t_stop >= duration * (1.0 - 1e-12)
+            capacity = windows + 2
+            call_steps, call_stop = int(pl[PL_LAST]), (math.inf if last else t_stop)
+        else:
+            call_steps, call_stop = steps, math.inf
+        buffers = _buffers(capacity, n) if (store_all or single) else _buffers(1, 1)
+        blocks = (n + 63) // 64
+        partials = np.zeros((blocks, capacity, NSTAT))
+        if single:
+            run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values())
+        else:
+            run_blocks(*table, sp, pl, state, bundle.weight, call_steps, call_stop, slot_base, store_all,
+                       *buffers.values(), partials)
+        saved = int(np.max(state[SAVED])) - slot_base
+        if store_all or single:
+            pieces.append({name: a[:saved] for name, a in buffers.items()})
+        if not single:
+            stats = np.zeros((saved, NSTAT))
+            reduce_partials(partials, saved, stats)
+            stat_pieces.append(stats)
+        slot_base += saved
         if progress is not None:
-            progress(_fraction_done(state, plan, scenario))
-        if status == FINISHED:
-            if plan.adaptive and state[ST_T] < scenario.run.duration * (1.0 - 1e-9):
-                stop = STOP_MAX_STEPS
-            break
-        if status == NONFINITE:
-            stop = STOP_NONFINITE
+            progress(_fraction_done(state, bundle, duration))
+        if not np.any(state[STATUS] == RUNNING):
             break
         if _is_cancelled(cancel):
-            stop = STOP_CANCELLED
             break
     wall = time.perf_counter() - start
-    arrays = {name: np.concatenate([p[name] for p in pieces]) for name in pieces[0]}
-    if len(arrays["t"]) == 0:
-        arrays = _initial_record(scenario, plan.dt)   # failed on the first step: keep the valid start
-    steps = int(state[ST_STEP])
-    meta = {
-        "steps": steps,
+    arrays = None
+    if pieces:
+        arrays = {name: np.concatenate([p[name] for p in pieces]) for name in ARRAY_NAMES}
+    stats = np.concatenate(stat_pieces) if stat_pieces else np.zeros((0, NSTAT))
+    return arrays, stats, state, wall, load_time
+
+
+def _meta(scenario, bundle, state, stop, wall, load_time):
+    plan = bundle.plan
+    steps = int(np.sum(state[STEP]))
+    return {
+        "steps": int(np.max(state[STEP])) if bundle.count == 1 else steps,
         "planned_steps": plan.steps,
         "dt": plan.dt,
         "adaptive": plan.adaptive,
@@ -167,46 +190,103 @@ def track(scenario, progress=None, cancel=None):
         "complete": stop == STOP_COMPLETED,
         "pusher": scenario.run.pusher,
         "radiation_reaction": scenario.run.radiation_reaction,
+        "particles": bundle.count,
     }
-    result = Result(scenario=scenario, meta=meta, **arrays)
+
+
+def track(scenario, progress=None, cancel=None):
+    """Integrate a scenario: a ``Result`` for one particle, a ``BeamResult`` for a beam (SI units).
+
+    Parameters
+    ----------
+    scenario : Scenario
+    progress : callable(fraction: float), optional
+        Called between chunks with the fraction done (of the slowest particle).
+    cancel : threading.Event or callable() -> bool, optional
+        Checked between chunks; a cancelled run returns the states computed so far
+        with ``meta["complete"] = False`` and ``meta["stop_reason"] = "cancelled"``.
+    """
+    bundle = compile_scenario(scenario)
+    if getattr(scenario, "beam", None) is not None:
+        return _track_beam(scenario, bundle, progress, cancel)
+    arrays, _, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel)
+    stop, lost = _stop_reason(scenario, bundle, state)
+    if lost[0] == LOST_DOMAIN:
+        stop = f"{STOP_LEFT_DOMAIN}: {outside_reason(scenario, state[X:X + 3, 0])} (run stopped, last good state kept)"
+    one = {name: (a[:, 0] if a.ndim == 2 else a[:, 0, :]) for name, a in arrays.items()}
+    if len(one["t"]) == 0:
+        one = _initial_record(scenario, bundle)   # failed on the first step: keep the valid start
+    meta = _meta(scenario, bundle, state, stop, wall, load_time)
+    result = Result(scenario=scenario, meta=meta, **{name: np.ascontiguousarray(one[name]) for name in ARRAY_NAMES})
     _attach_warnings(result)
     return result
 
 
+def _track_beam(scenario, bundle, progress, cancel):
+    from .beam_result import BeamResult
+
+    store_all = getattr(scenario.run, "save", "all") == "all"
+    arrays, stats, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel, store_all)
+    stop, lost = _stop_reason(scenario, bundle, state)
+    meta = _meta(scenario, bundle, state, stop, wall, load_time)
+    meta["lost"] = {LOST_REASONS[c]: int(np.sum(lost == c)) for c in LOST_REASONS if np.any(lost == c)}
+    arrays = arrays or {}
+    t = stats[:, 0].copy()
+    result = BeamResult(scenario=scenario, meta=meta, t=t, lost=lost,
+                        lost_time=np.where(lost != LOST_NONE, state[T], np.nan),
+                        stats=statistics_from_moments(stats),
+                        **{name: arrays.get(name) for name in ARRAY_NAMES if name != "t"})
+    return result
+
+
+def statistics_from_moments(stats):
+    """Beam statistics per saved time from reduced moments (``kernel`` S_* slots).
+
+    Keys: t (s), mean_gamma, rms_gamma_spread (relative), emittance_x, emittance_y
+    (normalised rms, m rad: sqrt(<dx^2><du^2> - <dx du>^2) with u = gamma beta),
+    radiated_energy (J, summed with weights), mean_chi, max_chi, lost (count).
+    """
+    from .kernel import (S_CHI, S_MAXCHI, S_MG, S_MGG, S_MISSING, S_MUXUX, S_MUYUY, S_MXUX, S_MXX, S_MYUY,
+                         S_MYY, S_RAD, S_T, S_W)
+
+    w = stats[:, S_W]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        inv_w = np.where(w > 0, 1.0 / w, np.nan)
+        ex = stats[:, S_MXX] * stats[:, S_MUXUX] * inv_w**2 - (stats[:, S_MXUX] * inv_w) ** 2
+        ey = stats[:, S_MYY] * stats[:, S_MUYUY] * inv_w**2 - (stats[:, S_MYUY] * inv_w) ** 2
+        return {
+            "t": stats[:, S_T].copy(),
+            "mean_gamma": np.where(w > 0, stats[:, S_MG], np.nan),
+            "rms_gamma_spread": np.sqrt(stats[:, S_MGG] * inv_w) / stats[:, S_MG],
+            "emittance_x": np.sqrt(np.maximum(ex, 0.0)),
+            "emittance_y": np.sqrt(np.maximum(ey, 0.0)),
+            "radiated_energy": stats[:, S_RAD].copy(),
+            "mean_chi": stats[:, S_CHI] * inv_w,
+            "max_chi": stats[:, S_MAXCHI].copy(),
+            "lost": stats[:, S_MISSING].astype(np.int64),
+        }
+
+
 def _attach_warnings(result):
-    """Validity checks after every run (tracker.validity), when that module is present."""
-    try:
-        from .validity import check_result
-    except ImportError:
-        return
+    """Validity checks after every run (tracker.validity)."""
+    from .validity import check_result
+
     result.warnings = check_result(result)
 
 
-def _initial_record(scenario, dt):
+def _initial_record(scenario, bundle):
     """Saved-state arrays holding only the validated initial state (power from the fields there)."""
-    p = scenario.particle
-    u0 = p.u
+    from .radiation.power import chi_parameter, transverse_force_squared
+
+    x0, u0 = bundle.x0[0], bundle.u0[0]
     gamma0 = math.sqrt(1.0 + float(u0 @ u0))
-    e0, b0 = scenario.fields_at([p.position], 0.0)
+    e0, b0 = scenario.fields_at(x0[None, :], 0.0)
     f2 = transverse_force_squared(*(u0 / gamma0), *e0[0], *b0[0])
-    return {"t": np.zeros(1), "x": np.array([p.position], dtype=float), "u": u0[None, :].copy(),
-            "gamma": np.array([gamma0]), "power": np.array([power_scale(p.charge, p.mass) * gamma0**2 * f2]),
+    sp = bundle.species
+    return {"t": np.zeros(1), "x": x0[None, :].copy(), "u": u0[None, :].copy(),
+            "gamma": np.array([gamma0]), "power": np.array([sp[2] * gamma0**2 * f2]),
             "radiated_energy": np.zeros(1), "field_work": np.zeros(1),
-            "chi": np.array([chi_parameter(chi_scale(p.charge, p.mass), gamma0, f2)]), "dt": np.array([dt])}
-
-
-def _buffers(n):
-    out = {name: np.empty(n) for name in ("t", "x", "u", "gamma", "power", "radiated_energy", "field_work",
-                                         "chi", "dt")}
-    out["x"] = np.empty((n, 3))
-    out["u"] = np.empty((n, 3))
-    return out
-
-
-def _fraction_done(state, plan, scenario):
-    if plan.adaptive:
-        return min(1.0, state[ST_T] / scenario.run.duration)
-    return min(1.0, state[ST_STEP] / plan.steps)
+            "chi": np.array([chi_parameter(sp[3], gamma0, f2)]), "dt": np.array([bundle.plan.dt])}
 
 
 def damped_and_undamped(scenario):

@@ -1,252 +1,299 @@
-"""The integration loop: one compiled kernel for every field model, pusher and damping model.
+"""The integration loops: one compiled kernel set for every field model, pusher, damping model and beam size.
 
-Leapfrog layout: x at integer steps, u = gamma v/c at half steps. Step n:
+- ``start_states``: the start-up physics (half step back, first kick, fields one step
+  back) with the same leaf functions the loop uses;
+- ``run_blocks``: particles in blocks of ``BLOCK`` (structure of arrays: ``state`` is
+  (STATE_SIZE, N)), the step loop outside and the particle loop inside, ``prange`` over
+  blocks; each block also reduces its saved states to moment partials
+  (``block_partials``) so beam statistics never need the full arrays;
+- ``run_single``: the same ``step.advance`` for one particle without the block
+  machinery (the latency-bound case);
+- ``reduce_partials``: combines block partials in block order (deterministic whatever
+  the thread count) with the pairwise update of Chan, Golub and LeVeque.
 
-1. E, B at (x^n, t^n) from the field table;
-2. (adaptive runs) dt^n from the fastest local time scale, see ``local_step``;
-3. Lorentz push u^{n-1/2} -> u_L over (dt^{n-1} + dt^n)/2 with the selected pusher;
-4. synchronous state at t^n: gamma = (gamma^{n-1/2} + gamma^{n+1/2})/2, u along
-   (u^{n-1/2} + u^{n+1/2}) rescaled to that gamma (removes the theta^2/8 shortfall
-   of a plain average of two rotated vectors). u^{n+1/2} is predicted as u_L plus
-   the previous step's radiation kick: evaluating the damping at u_L alone would
-   ignore the damping's own change over the step and make the scheme first order
-   (measured: final gamma error halves with dt); the prediction restores second order;
-5. diagnostics at t^n: Lienard power (times g(chi) for the quantum-corrected
-   model), chi, q E.v; cumulative radiated energy and field work by the
-   trapezoidal rule;
-6. radiation-reaction kick u_L -> u^{n+1/2} (operator splitting, common practice;
-   Tamburini et al. 2010, from memory), with gamma and the fields of the
-   synchronous state but the velocity direction of the predicted u^{n+1/2}: the
-   kick follows the push, so the friction of the whole step acts along the
-   already rotated momentum. Evaluated along the mid-step direction instead, the
-   energy loss falls short by cos(theta/2) (1.6 % error in the coth cooling test
-   at 10 steps per gyration; with the rotated direction 3e-7);
-7. x^{n+1} = x^n + c dt^n u^{n+1/2}/gamma^{n+1/2}.
+Every block writes only its own particles' slots and its own partial row, so results are
+bit-identical for any number of threads.
 """
 
 import math
 
-from numba import njit
+import numpy as np
+from numba import njit, prange
 
 from . import constants as k
 from .config import KERNEL
 from .fields.evaluate import field_at
-from .fields.laser import PLANE_WAVE
-from .fields.undulator import UNDULATOR
 from .pushers.dispatch import push
-from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
-from .radiation.quantum import gaunt_factor
-from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, ll_kick
+from .radiation.reaction import radiation_kick
+from .step import (BPREV, DTPREV, EPREV, GAMMA_HALF, PL_DAMPING, PL_PUSHER, RAD, RUNNING, SAVED, SP_CHI, SP_QM,
+                   SP_TAU0, STATE_SIZE, STATUS, T, U, WORK, X, advance)
 
-# state vector slots
-ST_X, ST_U, ST_T, ST_RAD, ST_WORK, ST_PPREV, ST_WPREV, ST_EPREV, ST_BPREV, ST_STEP, ST_DTPREV, ST_KICK = (
-    0, 3, 6, 7, 8, 9, 10, 11, 14, 17, 18, 19)
-STATE_SIZE = 22
-# species row
-SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE = range(5)
-# plan row
-(PL_DT, PL_LAST, PL_SAVE, PL_PUSHER, PL_DAMPING, PL_ADAPTIVE, PL_SPP, PL_DTMIN, PL_DTMAX, PL_TEND) = range(10)
-PLAN_SIZE = 10
-# status codes
-RUNNING, FINISHED, NONFINITE = 0, 1, 2
+#: particles per block: the particle loop inside the step loop works on this many (common practice)
+BLOCK = 64
 
-
-#: adaptive steps also resolve radiative cooling: the rate P/(gamma m c^2) counts as a
-#: frequency this many times larger, i.e. at most ~2 pi/(10 spp) of the energy is lost per
-#: step (common practice, no source: keeps the split radiation kick a small correction).
-COOLING_RESOLUTION = 10.0
+# quantities kept per particle and saved state for the block statistics
+Q_T, Q_X, Q_UX, Q_Y, Q_UY, Q_G, Q_RAD, Q_CHI, Q_W = range(9)
+NQ = 9
+# block partial slots (per saved state)
+(S_T, S_W, S_MG, S_MGG, S_MX, S_MUX, S_MXX, S_MXUX, S_MUXUX, S_MY, S_MUY, S_MYY, S_MYUY, S_MUYUY,
+ S_RAD, S_CHI, S_MAXCHI, S_MISSING) = range(18)
+NSTAT = 18
 
 
 @njit(**KERNEL)
-def local_step(kinds, params, qm, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, steps_per_period, dt_min, dt_max,
-               cooling_rate):
-    """dt (s) resolving the fastest local time scale by ``steps_per_period``, within [dt_min, dt_max].
+def start_states(kinds, params, data, sp, pl, x0, u0, dt, state):
+    """Fill ``state`` (STATE_SIZE, N) from positions x0 (N, 3) m and momenta u0 (N, 3) at t = 0.
 
-    Scales: relativistic gyration |q| |B|/(gamma m), the electric rotation rate
-    |q| |E|/(gamma m c), each laser's frequency seen by the particle w (1 - n.beta),
-    each undulator's period transit k_u c |beta_z|, and the radiative cooling rate
-    P/(gamma m c^2) (1/s) times COOLING_RESOLUTION.
+    u is taken half a step back, u^{-1/2}, with the Lorentz force and half a radiation
+    kick; the fields one step back along the straight line seed the field-rate term of
+    the Landau-Lifshitz force. Without the radiation half step the damping would start
+    dt/2 late, a relative gamma error ~ gamma0 dt/(2 tau_B) that converges only at first order.
     """
-    omega = abs(qm) * math.sqrt(fbx * fbx + fby * fby + fbz * fbz) / gamma
-    if COOLING_RESOLUTION * cooling_rate > omega:
-        omega = COOLING_RESOLUTION * cooling_rate
-    omega_e = abs(qm) * math.sqrt(ex * ex + ey * ey + ez * ez) / (gamma * k.c)
-    if omega_e > omega:
-        omega = omega_e
-    for i in range(kinds.shape[0]):
-        if kinds[i] == PLANE_WAVE:
-            w = params[i, 1] * (1.0 - (params[i, 2] * bx + params[i, 3] * by + params[i, 4] * bz))
-        elif kinds[i] == UNDULATOR:
-            w = params[i, 1] * k.c * abs(bz)
-        else:
+    qm = sp[SP_QM]
+    damping = int(pl[PL_DAMPING])
+    pusher = int(pl[PL_PUSHER])
+    for j in range(x0.shape[0]):
+        x, y, z = x0[j, 0], x0[j, 1], x0[j, 2]
+        ux, uy, uz = u0[j, 0], u0[j, 1], u0[j, 2]
+        ex, ey, ez, bx, by, bz = field_at(kinds, params, data, x, y, z, 0.0)
+        hq = -0.25 * qm * dt   # half of the push over -dt/2
+        hqc = hq / k.c
+        hx, hy, hz = push(pusher, ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+        kx, ky, kz = radiation_kick(damping, 0.5 * dt, qm, sp[SP_TAU0], sp[SP_CHI], ux, uy, uz,
+                                    ex, ey, ez, bx, by, bz, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
+        hx -= kx
+        hy -= ky
+        hz -= kz
+        g0 = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
+        back = k.c * dt / g0
+        f = field_at(kinds, params, data, x - ux * back, y - uy * back, z - uz * back, -dt)
+        for s in range(STATE_SIZE):
+            state[s, j] = 0.0
+        state[X, j] = x
+        state[X + 1, j] = y
+        state[X + 2, j] = z
+        state[U, j] = hx
+        state[U + 1, j] = hy
+        state[U + 2, j] = hz
+        for c in range(3):
+            state[EPREV + c, j] = f[c]
+            state[BPREV + c, j] = f[3 + c]
+        state[DTPREV, j] = dt
+        state[GAMMA_HALF, j] = math.sqrt(1.0 + hx * hx + hy * hy + hz * hz)
+        if not math.isfinite(hx + hy + hz + f[0] + f[1] + f[2] + f[3] + f[4] + f[5]):
+            state[STATUS, j] = 2.0  # NONFINITE: the start itself is unusable
+
+
+@njit(**KERNEL)
+def block_partials(scratch, n_used, out):
+    """Moment partials (NSTAT,) per saved state of one block from ``scratch`` (slots, n, NQ).
+
+    Two passes over the block (means, then centred second moments) keep the moments
+    accurate for beams far from the origin. Particles with weight 0 did not save.
+    """
+    for s in range(n_used):
+        w = 0.0
+        mg = mx = mux = my = muy = 0.0
+        missing = 0.0
+        t = math.nan
+        rad = chi_sum = 0.0
+        max_chi = 0.0
+        for j in range(scratch.shape[1]):
+            q = scratch[s, j]
+            wj = q[Q_W]
+            if wj == 0.0:
+                missing += 1.0
+                continue
+            t = q[Q_T]
+            w += wj
+            mg += wj * q[Q_G]
+            mx += wj * q[Q_X]
+            mux += wj * q[Q_UX]
+            my += wj * q[Q_Y]
+            muy += wj * q[Q_UY]
+            rad += wj * q[Q_RAD]
+            chi_sum += wj * q[Q_CHI]
+            if q[Q_CHI] > max_chi:
+                max_chi = q[Q_CHI]
+        o = out[s]
+        o[S_T] = t
+        o[S_W] = w
+        o[S_RAD] = rad
+        o[S_CHI] = chi_sum
+        o[S_MAXCHI] = max_chi
+        o[S_MISSING] = missing
+        if w == 0.0:
+            for c in (S_MG, S_MGG, S_MX, S_MUX, S_MXX, S_MXUX, S_MUXUX, S_MY, S_MUY, S_MYY, S_MYUY, S_MUYUY):
+                o[c] = 0.0
             continue
-        if w > omega:
-            omega = w
-    dt = dt_max
-    if omega > 0.0:
-        dt = 2.0 * math.pi / (omega * steps_per_period)
-    if dt > dt_max:
-        dt = dt_max
-    if dt < dt_min:
-        dt = dt_min
-    return dt
+        mg /= w
+        mx /= w
+        mux /= w
+        my /= w
+        muy /= w
+        gg = xx = xux = uxux = yy = yuy = uyuy = 0.0
+        for j in range(scratch.shape[1]):
+            q = scratch[s, j]
+            wj = q[Q_W]
+            if wj == 0.0:
+                continue
+            dg = q[Q_G] - mg
+            dx = q[Q_X] - mx
+            dux = q[Q_UX] - mux
+            dy = q[Q_Y] - my
+            duy = q[Q_UY] - muy
+            gg += wj * dg * dg
+            xx += wj * dx * dx
+            xux += wj * dx * dux
+            uxux += wj * dux * dux
+            yy += wj * dy * dy
+            yuy += wj * dy * duy
+            uyuy += wj * duy * duy
+        o[S_MG] = mg
+        o[S_MGG] = gg
+        o[S_MX] = mx
+        o[S_MUX] = mux
+        o[S_MXX] = xx
+        o[S_MXUX] = xux
+        o[S_MUXUX] = uxux
+        o[S_MY] = my
+        o[S_MUY] = muy
+        o[S_MYY] = yy
+        o[S_MYUY] = yuy
+        o[S_MUYUY] = uyuy
 
 
 @njit(**KERNEL)
-def run_chunk(kinds, params, species, plan, state, n_steps,
-              out_t, out_x, out_u, out_gamma, out_power, out_radiated, out_work, out_chi, out_dt):
-    """Advance ``state`` by up to ``n_steps`` steps, writing saved states from index 0.
+def reduce_partials(partials, n_used, out):
+    """Combine block partials (blocks, slots, NSTAT) into out (slots, NSTAT), block by block.
 
-    Returns (number of states saved, status). Units: SI, u dimensionless.
+    Pairwise update of means and centred (co)moments: T. F. Chan, G. H. Golub and
+    R. J. LeVeque, "Updating formulae and a pairwise algorithm for computing sample
+    variances", Stanford report STAN-CS-79-773 (1979).
     """
-    c = k.c
-    inv_c = 1.0 / k.c
-    qm = species[SP_QM]
-    tau0 = species[SP_TAU0]
-    pscale = species[SP_POWER]
-    cscale = species[SP_CHI]
-    charge = species[SP_CHARGE]
-    rest_energy = charge / qm * c * c
-    last_step = int(plan[PL_LAST])
-    save_every = int(plan[PL_SAVE])
-    pusher = int(plan[PL_PUSHER])
-    damping = int(plan[PL_DAMPING])
-    adaptive = plan[PL_ADAPTIVE] != 0.0
-    spp = plan[PL_SPP]
-    dt_min = plan[PL_DTMIN]
-    dt_max = plan[PL_DTMAX]
-    t_end = plan[PL_TEND]
+    for s in range(n_used):
+        acc = out[s]
+        for c in range(NSTAT):
+            acc[c] = 0.0
+        acc[S_T] = math.nan
+        for b in range(partials.shape[0]):
+            p = partials[b, s]
+            acc[S_MISSING] += p[S_MISSING]
+            wb = p[S_W]
+            if wb == 0.0:
+                continue
+            if math.isnan(acc[S_T]):
+                acc[S_T] = p[S_T]
+            acc[S_RAD] += p[S_RAD]
+            acc[S_CHI] += p[S_CHI]
+            if p[S_MAXCHI] > acc[S_MAXCHI]:
+                acc[S_MAXCHI] = p[S_MAXCHI]
+            wa = acc[S_W]
+            w = wa + wb
+            f = wa * wb / w
+            dg = p[S_MG] - acc[S_MG]
+            dx = p[S_MX] - acc[S_MX]
+            dux = p[S_MUX] - acc[S_MUX]
+            dy = p[S_MY] - acc[S_MY]
+            duy = p[S_MUY] - acc[S_MUY]
+            acc[S_MGG] += p[S_MGG] + dg * dg * f
+            acc[S_MXX] += p[S_MXX] + dx * dx * f
+            acc[S_MXUX] += p[S_MXUX] + dx * dux * f
+            acc[S_MUXUX] += p[S_MUXUX] + dux * dux * f
+            acc[S_MYY] += p[S_MYY] + dy * dy * f
+            acc[S_MYUY] += p[S_MYUY] + dy * duy * f
+            acc[S_MUYUY] += p[S_MUYUY] + duy * duy * f
+            acc[S_MG] += dg * wb / w
+            acc[S_MX] += dx * wb / w
+            acc[S_MUX] += dux * wb / w
+            acc[S_MY] += dy * wb / w
+            acc[S_MUY] += duy * wb / w
+            acc[S_W] = w
 
-    x, y, z = state[0], state[1], state[2]
-    ux, uy, uz = state[3], state[4], state[5]
-    t = state[ST_T]
-    radiated = state[ST_RAD]
-    work = state[ST_WORK]
-    p_prev = state[ST_PPREV]
-    w_prev = state[ST_WPREV]
-    epx, epy, epz = state[11], state[12], state[13]
-    bpx, bpy, bpz = state[14], state[15], state[16]
-    step = int(state[ST_STEP])
-    dt_prev = state[ST_DTPREV]
-    kx, ky, kz = state[19], state[20], state[21]
-    dt = plan[PL_DT]
-    status = RUNNING
-    saved = 0
-    countdown = (save_every - step % save_every) % save_every + 1
-    g_old = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)  # then carried from the position update
 
+@njit(parallel=True, **KERNEL)
+def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot_base, store_all,
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials):
+    """Advance every running particle by up to ``n_steps`` steps, or until its time reaches ``t_stop`` (s).
+
+    Saved states go to slot ``saved - 1 - slot_base`` of the chunk: the full arrays
+    (``out_*``, shapes (slots, N) and (slots, N, 3)) when ``store_all``, and always the
+    block partials (blocks, slots, NSTAT). Units: SI; u = gamma beta.
+    """
+    n = state.shape[1]
+    n_blocks = (n + BLOCK - 1) // BLOCK
+    n_slots = partials.shape[1]
+    for b in prange(n_blocks):
+        b0 = b * BLOCK
+        b1 = min(n, b0 + BLOCK)
+        scratch = np.zeros((n_slots, b1 - b0, NQ))
+        used = 0
+        for _ in range(n_steps):
+            active = 0
+            for j in range(b0, b1):
+                if state[STATUS, j] != RUNNING or state[T, j] >= t_stop:
+                    continue
+                active += 1
+                x = state[X, j]
+                y = state[X + 1, j]
+                z = state[X + 2, j]
+                r = advance(kinds, params, data, sp, pl, state, j)
+                if r[0]:
+                    slot = int(state[SAVED, j]) - 1 - slot_base
+                    if slot + 1 > used:
+                        used = slot + 1
+                    q = scratch[slot, j - b0]
+                    q[Q_T] = r[1]
+                    q[Q_X] = x
+                    q[Q_UX] = r[2]
+                    q[Q_Y] = y
+                    q[Q_UY] = r[3]
+                    q[Q_G] = r[5]
+                    q[Q_RAD] = state[RAD, j]
+                    q[Q_CHI] = r[7]
+                    q[Q_W] = weight[j]
+                    if store_all:
+                        out_t[slot, j] = r[1]
+                        out_dt[slot, j] = r[8]
+                        out_x[slot, j, 0] = x
+                        out_x[slot, j, 1] = y
+                        out_x[slot, j, 2] = z
+                        out_u[slot, j, 0] = r[2]
+                        out_u[slot, j, 1] = r[3]
+                        out_u[slot, j, 2] = r[4]
+                        out_gamma[slot, j] = r[5]
+                        out_power[slot, j] = r[6]
+                        out_rad[slot, j] = state[RAD, j]
+                        out_work[slot, j] = state[WORK, j]
+                        out_chi[slot, j] = r[7]
+            if active == 0:
+                break
+        block_partials(scratch, n_slots, partials[b])
+
+
+@njit(**KERNEL)
+def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi):
+    """``run_blocks`` for one particle (column 0 of ``state``), without blocks or statistics."""
     for _ in range(n_steps):
-        ex, ey, ez, bx, by, bz = field_at(kinds, params, x, y, z, t)
-        finished = step == last_step
-        if adaptive:
-            cooling = 0.0
-            if damping != NONE:
-                f2_old = transverse_force_squared(ux / g_old, uy / g_old, uz / g_old, ex, ey, ez, bx, by, bz)
-                cooling = pscale * g_old * f2_old / rest_energy  # P/(gamma m c^2)
-            dt = local_step(kinds, params, qm, g_old, ux / g_old, uy / g_old, uz / g_old,
-                            ex, ey, ez, bx, by, bz, spp, dt_min, dt_max, cooling)
-            if t + dt >= t_end:
-                dt = t_end - t
-            finished = finished or dt <= 1e-12 * t_end
-        dt_push = 0.5 * (dt_prev + dt) if adaptive else dt
-        hq = 0.5 * qm * dt_push
-        hqc = hq * inv_c
-        lx, ly, lz = push(pusher, ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
-        px = lx + kx
-        py = ly + ky
-        pz = lz + kz
-        g_p = math.sqrt(1.0 + px * px + py * py + pz * pz)
-        gs = 0.5 * (g_old + g_p)
-        sx = ux + px
-        sy = uy + py
-        sz = uz + pz
-        s2 = sx * sx + sy * sy + sz * sz
-        # beta = u/gamma with |u| = sqrt(gs^2 - 1)
-        scale = math.sqrt((gs * gs - 1.0) / (s2 * gs * gs)) if s2 > 0.0 else 0.0
-        betax = sx * scale
-        betay = sy * scale
-        betaz = sz * scale
-        f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
-        power = lienard_power(pscale, gs, f2)
-        gaunt = 1.0
-        if damping == LANDAU_LIFSHITZ_QUANTUM:
-            gaunt = gaunt_factor(chi_parameter(cscale, gs, f2))
-            power *= gaunt
-        if not math.isfinite(power + g_p):
-            # NaN or Inf from the fields or the push: stop before saving, keep the last good state
-            status = NONFINITE
+        if state[STATUS, 0] != RUNNING:
             break
-        work_rate = charge * c * (ex * betax + ey * betay + ez * betaz)
-        if step > 0:
-            radiated += 0.5 * dt_prev * (power + p_prev)
-            work += 0.5 * dt_prev * (work_rate + w_prev)
-        p_prev = power
-        w_prev = work_rate
-
-        countdown -= 1
-        if countdown == 0 or finished:
-            countdown = save_every
-            out_t[saved] = t
-            out_x[saved, 0] = x
-            out_x[saved, 1] = y
-            out_x[saved, 2] = z
-            out_u[saved, 0] = betax * gs
-            out_u[saved, 1] = betay * gs
-            out_u[saved, 2] = betaz * gs
-            out_gamma[saved] = gs
-            out_power[saved] = power
-            out_radiated[saved] = radiated
-            out_work[saved] = work
-            out_chi[saved] = chi_parameter(cscale, gs, f2)
-            out_dt[saved] = dt
-            saved += 1
-        if finished:
-            status = FINISHED
-            break
-
-        if damping != NONE:
-            inv_dt = 1.0 / dt_prev
-            # the kick follows the push, so its friction acts along the rotated momentum: direction of the
-            # predicted u^{n+1/2}, magnitude of the synchronous beta (removes a cos(theta/2) loss deficit)
-            to_end = math.sqrt((gs * gs - 1.0) / ((g_p * g_p - 1.0) * gs * gs)) if g_p > 1.0 else 0.0
-            dux, duy, duz = ll_kick(dt_push, qm, tau0, gs, px * to_end, py * to_end, pz * to_end,
-                                    ex, ey, ez, bx, by, bz,
-                                    (ex - epx) * inv_dt, (ey - epy) * inv_dt, (ez - epz) * inv_dt,
-                                    (bx - bpx) * inv_dt, (by - bpy) * inv_dt, (bz - bpz) * inv_dt, f2)
-            kx = gaunt * dux
-            ky = gaunt * duy
-            kz = gaunt * duz
-            lx += kx
-            ly += ky
-            lz += kz
-        g_new = math.sqrt(1.0 + lx * lx + ly * ly + lz * lz)
-        step_len = c * dt / g_new
-        nx = x + lx * step_len
-        ny = y + ly * step_len
-        nz = z + lz * step_len
-        # one test catches NaN or Inf in any of them: both propagate through the sum
-        if not math.isfinite(nx + ny + nz + lx + ly + lz + power):
-            status = NONFINITE
-            break
-        x, y, z = nx, ny, nz
-        ux, uy, uz = lx, ly, lz
-        g_old = g_new
-        epx, epy, epz = ex, ey, ez
-        bpx, bpy, bpz = bx, by, bz
-        t += dt
-        dt_prev = dt
-        step += 1
-
-    state[0], state[1], state[2] = x, y, z
-    state[3], state[4], state[5] = ux, uy, uz
-    state[ST_T] = t
-    state[ST_RAD] = radiated
-    state[ST_WORK] = work
-    state[ST_PPREV] = p_prev
-    state[ST_WPREV] = w_prev
-    state[11], state[12], state[13] = epx, epy, epz
-    state[14], state[15], state[16] = bpx, bpy, bpz
-    state[ST_STEP] = step
-    state[ST_DTPREV] = dt_prev
-    state[19], state[20], state[21] = kx, ky, kz
-    return saved, status
+        x = state[X, 0]
+        y = state[X + 1, 0]
+        z = state[X + 2, 0]
+        r = advance(kinds, params, data, sp, pl, state, 0)
+        if r[0]:
+            slot = int(state[SAVED, 0]) - 1 - slot_base
+            out_t[slot, 0] = r[1]
+            out_dt[slot, 0] = r[8]
+            out_x[slot, 0, 0] = x
+            out_x[slot, 0, 1] = y
+            out_x[slot, 0, 2] = z
+            out_u[slot, 0, 0] = r[2]
+            out_u[slot, 0, 1] = r[3]
+            out_u[slot, 0, 2] = r[4]
+            out_gamma[slot, 0] = r[5]
+            out_power[slot, 0] = r[6]
+            out_rad[slot, 0] = state[RAD, 0]
+            out_work[slot, 0] = state[WORK, 0]
+            out_chi[slot, 0] = r[7]

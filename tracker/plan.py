@@ -5,7 +5,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import constants as k
+
 from .config import BYTES_PER_SAVED_STATE, DEFAULT_STEPS_PER_PERIOD
 from .errors import ScenarioError
 
@@ -46,39 +46,42 @@ def human_bytes(n):
     """'1.2 GiB' style size."""
     for unit in ("B", "KiB", "MiB", "GiB", "TiB"):
         if n < 1024 or unit == "TiB":
-            return f"{n:.1f} {unit}" if unit != "B" else f"{n} B"
+            if unit == "B":
+                return f"{n:.0f} B"
+            return f"{n:.1f} {unit}" if n < 1e6 else f"{n:.3g} {unit}"
         n /= 1024.0
 
 
-def time_scales(scenario):
-    """[(period in s, description)] of the initial gyration and every field period seen by the particle."""
-    p = scenario.particle
-    u = p.u
-    gamma = math.sqrt(1.0 + float(u @ u))
-    beta = u / gamma
-    scales = []
-    e, b = scenario.fields_at([p.position], 0.0)
-    if not (np.all(np.isfinite(e)) and np.all(np.isfinite(b))):
-        raise ScenarioError("particle.position", f"the fields are not finite at the start {list(p.position)!r} "
-                                                 "(on a singularity of a field model?).")
-    bmag = float((b[0] @ b[0]) ** 0.5)
-    if bmag > 0:
-        scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * bmag), "relativistic gyration at the start"))
-    for i, f in enumerate(scenario.fields):
-        v = f.params
-        if f.type == "plane-wave":
-            from .fields.laser import polarization_vectors
+def initial_rates(scenario):
+    """(rates rad/s (N,), source codes (N,)) of the fastest time scale of every particle at t = 0.
 
-            n, _, _ = polarization_vectors(v)
-            doppler = 1.0 - float(beta @ n)
-            scales.append((v["wavelength"] / (k.c * doppler), f"field[{i}] laser period seen by the particle"))
-        elif f.type == "undulator":
-            if abs(v["B0"]) > 0:
-                scales.append((2.0 * math.pi * gamma * p.mass / (abs(p.charge) * abs(v["B0"])),
-                               f"field[{i}] gyration at the undulator peak field"))
-            if abs(beta[2]) > 0:
-                scales.append((v["period"] / (k.c * abs(beta[2])), f"field[{i}] undulator period transit"))
-    return scales
+    The same compiled routine as adaptive steps and the validity checks
+    (``tracker.timescales``), so the plan, the run and its warnings agree.
+    """
+    from .timescales import rates
+
+    x0, u0, _ = scenario.initial_particles()
+    q, m = scenario.species_charge, scenario.species_mass
+    e, b = scenario.fields_at(x0, 0.0)
+    if not (np.all(np.isfinite(e)) and np.all(np.isfinite(b))):
+        bad = int(np.flatnonzero(~(np.isfinite(e).all(axis=1) & np.isfinite(b).all(axis=1)))[0])
+        key = "particle.position" if scenario.particle_count == 1 else "beam.position"
+        raise ScenarioError(key, f"the fields are not finite at the start {list(x0[bad])!r} "
+                                 "(on a singularity of a field model, or outside a field map?).")
+    # without the cooling rate: damped and undamped runs of a comparison get the same plan
+    return rates(scenario.field_table, q / m, 0.0, 0.0, x0, u0)
+
+
+def time_scales(scenario):
+    """[(period in s, description)]: the fastest initial time scale over all particles (empty if none)."""
+    from .timescales import describe
+
+    omega, source = initial_rates(scenario)
+    if not len(omega) or not np.nanmax(omega) > 0:
+        return []
+    i = int(np.nanargmax(omega))
+    where = " at the start" if scenario.particle_count == 1 else f" at the start (fastest particle, #{i})"
+    return [(2.0 * math.pi / float(omega[i]), describe(int(source[i]), scenario.fields) + where)]
 
 
 def make_plan(scenario):
@@ -100,16 +103,18 @@ def make_plan(scenario):
                                                     f"{period!r} s: no usable step; give run.dt instead.")
     steps_wanted = run.duration / dt_wanted
     if not (math.isfinite(steps_wanted) and steps_wanted <= run.max_steps):
+        # counted in floating point: a step of 1e-320 s must not overflow the integer count
+        memory = (steps_wanted / run.save_every + 1.0) * BYTES_PER_SAVED_STATE * scenario.particle_count
         raise ScenarioError(
             "run.max_steps",
             f"the plan needs {steps_wanted:.4g} steps (dt = {dt_wanted:.4g} s over {run.duration:.4g} s), more "
-            f"than max_steps = {run.max_steps:,}. Raise run.max_steps, shorten run.duration or give a coarser "
-            "resolution.",
+            f"than max_steps = {run.max_steps:,}; it would keep {human_bytes(memory)} of states. Raise "
+            "run.max_steps, shorten run.duration or give a coarser resolution.",
         )
     steps = max(1, math.ceil(steps_wanted * (1.0 - 1e-12)))
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
-    memory = saved * BYTES_PER_SAVED_STATE
+    memory = saved * BYTES_PER_SAVED_STATE * scenario.particle_count
     if steps > run.max_steps:
         raise ScenarioError(
             "run.max_steps",

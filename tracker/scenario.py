@@ -22,7 +22,7 @@ import numpy as np
 
 from . import constants as k
 from . import species as sp
-from .config import DEFAULT_MAX_STEPS, FIELD_PARAMS
+from .config import DATA_OFFSET_SLOT, DEFAULT_MAX_STEPS, FIELD_PARAMS
 from .errors import ScenarioError, brief
 from .fields import MODELS as FIELD_MODELS
 from .fields.base import ABSENT, REQUIRED, unit_vector
@@ -207,14 +207,31 @@ class Scenario:
     # ------------------------------------------------------------------ compiled form
     @cached_property
     def field_table(self):
-        """(kinds int64 (n,), params float64 (n, FIELD_PARAMS)) for the kernels."""
+        """(kinds int64 (n,), params float64 (n, FIELD_PARAMS), data float64 (m,)) for the kernels.
+
+        ``data`` holds the bulk data of models that have it (field maps, formula programs);
+        a row finds its block at the offset stored in ``params[i, DATA_OFFSET_SLOT]``.
+        """
         kinds = np.zeros(len(self.fields), dtype=np.int64)
         params = np.zeros((len(self.fields), FIELD_PARAMS), dtype=np.float64)
+        blocks = []
+        offset = 0
         for i, f in enumerate(self.fields):
             row = f.model.pack(f.params)
+            if len(row) > DATA_OFFSET_SLOT:
+                raise ScenarioError(f"field[{i}]", f"packs {len(row)} parameters; at most {DATA_OFFSET_SLOT} fit.")
             kinds[i] = f.model.code
             params[i, : len(row)] = row
-        return kinds, params
+            if f.model.data is not None:
+                block = np.ascontiguousarray(f.model.data(f.params, getattr(self, "base_dir", None)),
+                                             dtype=np.float64).ravel()
+                params[i, DATA_OFFSET_SLOT] = float(offset)
+                blocks.append(block)
+                offset += block.size
+        data = np.concatenate(blocks) if blocks else np.zeros(1)
+        for a in (kinds, params, data):
+            a.setflags(write=False)
+        return kinds, params, data
 
     def fields_at(self, x, t):
         """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
@@ -225,15 +242,36 @@ class Scenario:
         from .fields.evaluate import evaluate
         from .plausibility import times_for_points
 
-        kinds, params = self.field_table
         points, times = times_for_points(x, t)
         if times is None:
-            return evaluate(kinds, params, points, t if np.ndim(t) == 0 else float(np.asarray(t).ravel()[0]))
+            return evaluate(*self.field_table, points, t if np.ndim(t) == 0 else float(np.asarray(t).ravel()[0]))
         e, b = np.empty_like(points), np.empty_like(points)
         for when in np.unique(times):
             at = times == when
-            e[at], b[at] = evaluate(kinds, params, points[at], float(when))
+            e[at], b[at] = evaluate(*self.field_table, points[at], float(when))
         return e, b
+
+    # ------------------------------------------------------------------ particles
+    @property
+    def particle_count(self):
+        """Number of particles the scenario tracks (1 for a [particle])."""
+        return 1
+
+    @property
+    def species_charge(self):
+        """Charge of the tracked species in C."""
+        return self.particle.charge
+
+    @property
+    def species_mass(self):
+        """Mass of the tracked species in kg."""
+        return self.particle.mass
+
+    def initial_particles(self):
+        """(x (N, 3) m, u (N, 3) gamma*beta, weight (N,)) at t = 0."""
+        p = self.particle
+        return (np.array([p.position], dtype=np.float64), np.array(p.u, dtype=np.float64)[None, :].copy(),
+                np.ones(1))
 
     def plan(self):
         """The run plan (dt, steps, saved states, memory); raises ScenarioError if too large."""

@@ -51,11 +51,9 @@ References
 import math
 
 import numpy as np
-from numba import njit
 
 from . import constants as k
-from .config import KERNEL
-from .fields.evaluate import field_at
+from .timescales import describe
 
 #: largest accepted gyration-phase error per period. The Boris rotation turns by
 #: 2 arctan(theta/2) instead of theta = omega dt, a relative frequency error of
@@ -109,9 +107,6 @@ PRECISION_MARGIN = 10.0
 #: warning kinds after which a result is not complete (see ``Result.complete``).
 FAILING_KINDS = ("energy-balance",)
 
-SCALE_NAMES = ("gyration", "electric-field rotation", "laser period seen by the particle",
-               "undulator period transit")
-
 
 def warning(kind, message, time):
     """One warning record: kind (str), message (str), time (s, float)."""
@@ -137,52 +132,6 @@ def format_fraction(x):
     return f"{x:.3g} times"
 
 
-@njit(**KERNEL)
-def local_rates(kinds, params, qm, x, t, u, gamma, lasers, undulators, out):
-    """Angular rates (rad/s) of the local time scales at saved states.
-
-    Parameters
-    ----------
-    kinds, params : field table (int64 (m,), float64 (m, FIELD_PARAMS))
-    qm : float, C/kg
-    x : ndarray, shape (n, 3), m
-    t : ndarray, shape (n,), s
-    u : ndarray, shape (n, 3), gamma*beta
-    gamma : ndarray, shape (n,)
-    lasers : ndarray, shape (l, 6) -- [row, omega (rad/s), nx, ny, nz, peak |E| (V/m)]
-    undulators : ndarray, shape (w, 4) -- [row, k_u (1/m), start (m), length (m)]
-    out : ndarray, shape (n, 4)
-        Filled with [gyration |q| |B|/(gamma m), electric rotation |q| |E|/(gamma m c),
-        laser omega (1 - n.beta) where the laser is present, undulator k_u c |beta_z|
-        inside the undulator].
-    """
-    for i in range(x.shape[0]):
-        f = field_at(kinds, params, x[i, 0], x[i, 1], x[i, 2], t[i])
-        g = gamma[i]
-        out[i, 0] = abs(qm) * math.sqrt(f[3] * f[3] + f[4] * f[4] + f[5] * f[5]) / g
-        out[i, 1] = abs(qm) * math.sqrt(f[0] * f[0] + f[1] * f[1] + f[2] * f[2]) / (g * k.c)
-        bx = u[i, 0] / g
-        by = u[i, 1] / g
-        bz = u[i, 2] / g
-        wl = 0.0
-        for j in range(lasers.shape[0]):
-            r = int(lasers[j, 0])
-            fl = field_at(kinds[r:r + 1], params[r:r + 1], x[i, 0], x[i, 1], x[i, 2], t[i])
-            if math.sqrt(fl[0] * fl[0] + fl[1] * fl[1] + fl[2] * fl[2]) >= LASER_PRESENT * lasers[j, 5]:
-                w = lasers[j, 1] * (1.0 - (lasers[j, 2] * bx + lasers[j, 3] * by + lasers[j, 4] * bz))
-                if w > wl:
-                    wl = w
-        wu = 0.0
-        for j in range(undulators.shape[0]):
-            s = x[i, 2] - undulators[j, 2]
-            if 0.0 <= s <= undulators[j, 3]:
-                w = undulators[j, 1] * k.c * abs(bz)
-                if w > wu:
-                    wu = w
-        out[i, 2] = wl
-        out[i, 3] = wu
-
-
 def laser_rows(scenario):
     """[(row, omega rad/s, n (3,), peak |E| V/m, a0)] of the plane-wave fields of a scenario."""
     from .fields.laser import a0_of, polarization_vectors
@@ -206,19 +155,17 @@ def species_a0(a0, scenario):
 
 
 def rates_along(result):
-    """(n, 4) local angular rates (rad/s) at the saved states; see ``local_rates``."""
+    """(omega rad/s (n,), source codes (n,)) of the fastest local time scale at the saved states.
+
+    The same compiled routine as the plan and adaptive steps (``tracker.timescales``).
+    """
+    from .timescales import rates
+
     scenario = result.scenario
-    kinds, params = scenario.field_table
-    lasers = np.array([[i, w, *n, e0] for i, w, n, e0, _ in laser_rows(scenario)], dtype=np.float64).reshape(-1, 6)
-    und = [[i, 2.0 * math.pi / f.params["period"], f.params["start"], f.params["length"]]
-           for i, f in enumerate(scenario.fields) if f.type == "undulator"]
-    undulators = np.array(und, dtype=np.float64).reshape(-1, 4)
-    p = scenario.particle
-    out = np.zeros((len(result.t), 4))
-    local_rates(kinds, params, p.charge / p.mass, np.ascontiguousarray(result.x, dtype=np.float64),
-                np.ascontiguousarray(result.t, dtype=np.float64), np.ascontiguousarray(result.u, dtype=np.float64),
-                np.ascontiguousarray(result.gamma, dtype=np.float64), lasers, undulators, out)
-    return out
+    x = np.where(np.isfinite(result.x), result.x, 0.0)
+    u = np.where(np.isfinite(result.u), result.u, 0.0)
+    t = np.where(np.isfinite(result.t), result.t, 0.0)
+    return rates(scenario.field_table, scenario.species_charge / scenario.species_mass, 0.0, t, x, u)
 
 
 # ---------------------------------------------------------------------- the checks
@@ -366,8 +313,7 @@ def check_resolution(result, rates, good):
     """'resolution': worst steps per local period, and the energy radiated per step."""
     found = []
     dt = result.dt
-    omega = rates.max(axis=1)
-    source = rates.argmax(axis=1)
+    omega, source = rates
     usable = good & (dt > 0) & (omega > 0)
     if np.any(usable):
         spp = np.full(len(dt), np.inf)
@@ -381,7 +327,7 @@ def check_resolution(result, rates, good):
             consequence = "and the damping is misplaced" if damped else "and the orbit drifts out of phase"
             found.append(warning(
                 "resolution",
-                f"the {SCALE_NAMES[source[worst]]} is resolved by only {spp[worst]:.3g} steps per period at "
+                f"the {describe(int(source[worst]), result.scenario.fields)} is resolved by only {spp[worst]:.3g} steps per period at "
                 f"t = {result.t[worst]:.4g} s (worst; {below:.0%} of saved states are below "
                 f"{MIN_STEPS_PER_PERIOD:.0f}, first at t = {result.t[first]:.4g} s). The phase error then exceeds "
                 f"{MAX_PHASE_ERROR:.0%} per period {consequence}. Advice: "
@@ -455,7 +401,7 @@ def check_radiation_dominated(result, rates, good):
                 + what_run + ".",
                 result.t[i])]
         return []
-    omega = rates.max(axis=1)
+    omega, source = rates
     energy = result.gamma * result.rest_energy
     ok = good & (omega > 0) & (energy > 0)
     if not np.any(ok):
@@ -468,7 +414,7 @@ def check_radiation_dominated(result, rates, good):
     return [warning(
         "radiation-dominated",
         f"the particle radiates {ratio[j]:.3g} times its energy per period of its "
-        f"{SCALE_NAMES[int(rates[j].argmax())]} at t = {result.t[j]:.4g} s: radiation reaction dominates "
+        f"{describe(int(source[j]), scenario.fields)} at t = {result.t[j]:.4g} s: radiation reaction dominates "
         f"(the static-field analogue of R_c >~ 1, Di Piazza et al. 2012); " + what_run + ".",
         result.t[j])]
 

@@ -60,12 +60,9 @@ class FieldModel:
     doc: str = ""
     check: object = None  #: optional values dict, key prefix -> None; raises ScenarioError
     domain: object = None  #: optional values dict -> (kind, description) of validity limits
-
-    def param(self, name):
-        for p in self.params:
-            if p.name == name:
-                return p
-        raise KeyError(name)
+    rate_label: str = ""   #: names the model's own time scale (``rate`` leaf in its module), "" if none
+    data: object = None    #: optional (values, base_dir) -> 1-D float64 bulk data (maps, programs)
+    outside: object = None  #: optional (values, x (3,) m) -> reason text when x is outside the model's domain
 
 
 def unit_vector(vec, key):

@@ -1,36 +1,58 @@
-"""The one field dispatcher every kernel uses: sum of all components of a field table."""
+"""The field dispatchers every kernel uses: the sum of all rows of a field table, and their time scales.
+
+A field table is three arrays: ``kinds`` (int64, one kind code per row), ``params``
+(float64, one row of ``config.FIELD_PARAMS`` slots per component) and ``data``
+(float64, 1-D bulk data such as field maps; a row finds its block through the offset
+in ``params[i, DATA_OFFSET_SLOT]``). Both dispatchers switch on the kind code; an
+unknown code gives NaN (the particle stops as non-finite), never a silent zero.
+``tracker.compile`` refuses such a table before it reaches a kernel.
+"""
+
+import math
 
 import numpy as np
 from numba import njit
 
 from ..config import KERNEL, LEAF
-from .laser import PLANE_WAVE, plane_wave_field
+from .laser import PLANE_WAVE, plane_wave_field, plane_wave_rate
 from .static import DIPOLE, MIRROR, UNIFORM, dipole_field, mirror_field, uniform_field
 from .tokamak import TOKAMAK, tokamak_field
-from .undulator import UNDULATOR, undulator_field
+from .undulator import UNDULATOR, undulator_field, undulator_rate
+
+#: kind code -> evaluator name, for the registry test (every code reachable, none twice)
+EVALUATORS = {UNIFORM: "uniform_field", PLANE_WAVE: "plane_wave_field", UNDULATOR: "undulator_field",
+              MIRROR: "mirror_field", DIPOLE: "dipole_field", TOKAMAK: "tokamak_field"}
+#: kind code -> rate leaf name for the models that have their own time scale
+RATES = {PLANE_WAVE: "plane_wave_rate", UNDULATOR: "undulator_rate"}
 
 
 @njit(**LEAF)
-def field_at(kinds, params, x, y, z, t):
+def field_row(kinds, params, data, i, x, y, z, t):
+    """E (V/m) and B (T) of table row ``i`` at (x, y, z) m, t s; NaN for an unknown kind."""
+    kind = kinds[i]
+    p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
+    if kind == UNIFORM:
+        return uniform_field(p, i, data, x, y, z, t)
+    if kind == PLANE_WAVE:
+        return plane_wave_field(p, i, data, x, y, z, t)
+    if kind == UNDULATOR:
+        return undulator_field(p, i, data, x, y, z, t)
+    if kind == MIRROR:
+        return mirror_field(p, i, data, x, y, z, t)
+    if kind == DIPOLE:
+        return dipole_field(p, i, data, x, y, z, t)
+    if kind == TOKAMAK:
+        return tokamak_field(p, i, data, x, y, z, t)
+    nan = math.nan
+    return nan, nan, nan, nan, nan, nan
+
+
+@njit(**LEAF)
+def field_at(kinds, params, data, x, y, z, t):
     """E (V/m) and B (T) at (x, y, z) in m and t in s, summed over the table rows."""
     ex = ey = ez = bx = by = bz = 0.0
     for i in range(kinds.shape[0]):
-        kind = kinds[i]
-        p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
-        if kind == UNIFORM:
-            f = uniform_field(p, i, x, y, z, t)
-        elif kind == PLANE_WAVE:
-            f = plane_wave_field(p, i, x, y, z, t)
-        elif kind == UNDULATOR:
-            f = undulator_field(p, i, x, y, z, t)
-        elif kind == MIRROR:
-            f = mirror_field(p, i, x, y, z, t)
-        elif kind == DIPOLE:
-            f = dipole_field(p, i, x, y, z, t)
-        elif kind == TOKAMAK:
-            f = tokamak_field(p, i, x, y, z, t)
-        else:
-            continue
+        f = field_row(kinds, params, data, i, x, y, z, t)
         ex += f[0]
         ey += f[1]
         ez += f[2]
@@ -40,11 +62,24 @@ def field_at(kinds, params, x, y, z, t):
     return ex, ey, ez, bx, by, bz
 
 
+@njit(**LEAF)
+def row_rate(kinds, params, data, i, x, y, z, t, bx, by, bz, gamma, qm):
+    """The model's own angular rate (rad/s) for row ``i``, 0 if it has none; beta = (bx, by, bz)."""
+    kind = kinds[i]
+    if kind == PLANE_WAVE:
+        return plane_wave_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    if kind == UNDULATOR:
+        return undulator_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    if kind == UNIFORM or kind == MIRROR or kind == DIPOLE or kind == TOKAMAK:
+        return 0.0
+    return math.nan
+
+
 @njit(**KERNEL)
-def fields_on_points(kinds, params, points, t, out_e, out_b):
+def fields_on_points(kinds, params, data, points, t, out_e, out_b):
     """Fill out_e, out_b (n, 3) with E (V/m) and B (T) at points (n, 3) in m at time t (s)."""
     for i in range(points.shape[0]):
-        f = field_at(kinds, params, points[i, 0], points[i, 1], points[i, 2], t)
+        f = field_at(kinds, params, data, points[i, 0], points[i, 1], points[i, 2], t)
         out_e[i, 0] = f[0]
         out_e[i, 1] = f[1]
         out_e[i, 2] = f[2]
@@ -53,12 +88,15 @@ def fields_on_points(kinds, params, points, t, out_e, out_b):
         out_b[i, 2] = f[5]
 
 
-def evaluate(kinds, params, points, t):
+def evaluate(kinds, params, data, points, t):
     """E, B arrays (n, 3) in SI at positions ``points`` (n, 3) m and time t (s)."""
     points = np.ascontiguousarray(np.atleast_2d(points), dtype=np.float64)
-    if points.shape[-1] != 3:
+    if points.ndim != 2 or points.shape[-1] != 3:
         raise ValueError(f"positions must have shape (n, 3), not {points.shape}.")
+    t = np.asarray(t, dtype=np.float64)
+    if t.ndim != 0:
+        raise ValueError(f"the time must be one number in s, not an array of shape {t.shape}.")
     out_e = np.zeros_like(points)
     out_b = np.zeros_like(points)
-    fields_on_points(kinds, params, points, float(t), out_e, out_b)
+    fields_on_points(kinds, params, data, points, float(t), out_e, out_b)
     return out_e, out_b

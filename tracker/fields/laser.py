@@ -35,7 +35,7 @@ SIN2_FWHM_FRACTION = 2.0 / math.pi * math.acos(2.0 ** -0.25)
 
 
 @njit(**LEAF)
-def plane_wave_field(p, i, x, y, z, t):
+def plane_wave_field(p, i, data, x, y, z, t):
     """Plane-wave pulse from the normalised vector potential a(s), s = t - n.(r - r_peak)/c.
 
     a(s) = a0 g(s) [e1 cos(w s + phase) + h e2 sin(w s + phase)],  h = 0 linear, 1 circular
@@ -94,6 +94,12 @@ def intensity_from_a0(a0, wavelength, polarization="linear"):
 def intensity_from_a0_unit(wavelength, polarization="linear"):
     """Intensity (W/m^2) at a0 = 1 (the inverse of ``a0_from_intensity`` squared)."""
     return 1.0 / a0_from_intensity(1.0, wavelength, polarization) ** 2
+
+
+@njit(**LEAF)
+def plane_wave_rate(p, i, data, x, y, z, t, bx, by, bz, gamma, qm):
+    """Laser angular frequency seen by the particle, w (1 - n.beta) in rad/s (Doppler shift)."""
+    return p[i, 1] * (1.0 - (p[i, 2] * bx + p[i, 3] * by + p[i, 4] * bz))
 
 
 def a0_of(v):
@@ -163,6 +169,7 @@ MODEL = FieldModel(
     ),
     pack=_pack,
     check=_check,
+    rate_label="laser period seen by the particle",
     doc=(
         "Plane wave from a(s) = a0 g(s) cos(w s + phase) on the vector potential. `duration` is the "
         "FWHM of the intensity |a|^2 envelope; for sin2 the amplitude envelope is cos^2(pi s/T) over a "

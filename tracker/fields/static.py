@@ -14,13 +14,13 @@ DIPOLE = 3
 
 
 @njit(**LEAF)
-def uniform_field(p, i, x, y, z, t):
+def uniform_field(p, i, data, x, y, z, t):
     """Uniform E (V/m) in p[0:3] and B (T) in p[3:6]."""
     return p[i, 0], p[i, 1], p[i, 2], p[i, 3], p[i, 4], p[i, 5]
 
 
 @njit(**LEAF)
-def mirror_field(p, i, x, y, z, t):
+def mirror_field(p, i, data, x, y, z, t):
     """Paraxial mirror, axis z: Bz = B0 (1 + z^2/L^2), Br = -B0 r z/L^2 (div B = 0).
 
     Chen, Introduction to Plasma Physics, sec. 2.3 (magnetic mirror; section from memory); the radial
@@ -36,7 +36,7 @@ def mirror_field(p, i, x, y, z, t):
 
 
 @njit(**LEAF)
-def dipole_field(p, i, x, y, z, t):
+def dipole_field(p, i, data, x, y, z, t):
     """Point magnetic dipole B = mu0/(4 pi r^3) [3 (M.r^) r^ - M] (Jackson sec. 5.6, from memory).
 
     p = [mu0/(4 pi) Mx, My, Mz, cx, cy, cz]; infinite at the centre (caught as non-finite).

@@ -11,7 +11,7 @@ TOKAMAK = 6
 
 
 @njit(**LEAF)
-def tokamak_field(p, i, x, y, z, t):
+def tokamak_field(p, i, data, x, y, z, t):
     """Axisymmetric tokamak field about the z axis (J. Wesson, Tokamaks, ch. 3, large aspect ratio; chapter from memory).
 
     B_phi = B0 R0/R; poloidal field from the flux psi = B0 r^2/(2 q), r^2 = (R - R0)^2 + z^2:

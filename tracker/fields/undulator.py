@@ -4,6 +4,7 @@ import math
 
 from numba import njit
 
+from .. import constants as k
 from ..config import LEAF
 from ..errors import ScenarioError
 from .base import FieldModel, Param
@@ -12,7 +13,7 @@ UNDULATOR = 4
 
 
 @njit(**LEAF)
-def undulator_field(p, i, x, y, z, t):
+def undulator_field(p, i, data, x, y, z, t):
     """Planar undulator, axis z, field along y (H. Wiedemann, Particle Accelerator Physics, chapter on insertion devices; from memory).
 
     Inside start <= z <= start + length (s = z - start, k = 2 pi/period):
@@ -39,6 +40,15 @@ def undulator_field(p, i, x, y, z, t):
     ky = k * y
     ks = k * s
     return 0.0, 0.0, 0.0, 0.0, b0 * math.cosh(ky) * math.sin(ks), b0 * math.sinh(ky) * math.cos(ks)
+
+
+@njit(**LEAF)
+def undulator_rate(p, i, data, x, y, z, t, bx, by, bz, gamma, qm):
+    """Fastest undulator time scale in rad/s: the period transit k_u c |beta_z|, or the
+    relativistic gyration |q| B0/(gamma m) at the peak field, whichever is faster."""
+    transit = p[i, 1] * k.c * abs(bz)
+    gyration = abs(qm * p[i, 0]) / gamma
+    return transit if transit > gyration else gyration
 
 
 def _check(v, key):
@@ -69,6 +79,7 @@ MODEL = FieldModel(
     ),
     pack=_pack,
     check=_check,
+    rate_label="undulator period transit or peak-field gyration",
     doc=("By = B0 cosh(ky) sin(ks) along z with half-strength end half-periods; "
          "deflection parameter K = e B0 period/(2 pi m_e c)."),
     domain=_domain,

@@ -40,11 +40,11 @@ TIME_BASES = ("retarded", "observer")
 
 
 @njit(**KERNEL)
-def _beta_dot_along(kinds, params, qmc, t, x, u, out):
+def _beta_dot_along(kinds, params, data, qmc, t, x, u, out):
     """Fill out (n, 3) with d(beta)/dt in 1/s from the Lorentz force; qmc = q/(m c) in C s/(kg m)."""
     c = k.c
     for i in range(t.shape[0]):
-        ex, ey, ez, bx, by, bz = field_at(kinds, params, x[i, 0], x[i, 1], x[i, 2], t[i])
+        ex, ey, ez, bx, by, bz = field_at(kinds, params, data, x[i, 0], x[i, 1], x[i, 2], t[i])
         g = math.sqrt(1.0 + u[i, 0] * u[i, 0] + u[i, 1] * u[i, 1] + u[i, 2] * u[i, 2])
         b0 = u[i, 0] / g
         b1 = u[i, 1] / g
@@ -77,10 +77,10 @@ def orbit_kinematics(result, index=None):
     t = np.ascontiguousarray(np.atleast_1d(result.t[sel]), dtype=np.float64)
     x = np.ascontiguousarray(np.atleast_2d(result.x[sel]), dtype=np.float64)
     u = np.ascontiguousarray(np.atleast_2d(result.u[sel]), dtype=np.float64)
-    kinds, params = result.scenario.field_table
+    kinds, params, data = result.scenario.field_table
     particle = result.scenario.particle
     out = np.zeros_like(x)
-    _beta_dot_along(kinds, params, particle.charge / (particle.mass * k.c), t, x, u, out)
+    _beta_dot_along(kinds, params, data, particle.charge / (particle.mass * k.c), t, x, u, out)
     gamma = np.sqrt(1.0 + np.einsum("ij,ij->i", u, u))
     return u / gamma[:, None], out
 

@@ -20,10 +20,14 @@ itself ~1/(gamma a0) of the damping (and leaves the final momentum after a
 plane-wave pulse unchanged).
 """
 
+import math
+
 from numba import njit
 
 from .. import constants as k
 from ..config import LEAF
+from .power import chi_parameter, transverse_force_squared
+from .quantum import gaunt_factor
 
 NONE = 0
 LANDAU_LIFSHITZ = 1
@@ -59,3 +63,30 @@ def ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey
     return (scale * (t1x + qm * (t2x - s3 * bx)),
             scale * (t1y + qm * (t2y - s3 * by)),
             scale * (t1z + qm * (t2z - s3 * bz)))
+
+
+@njit(**LEAF)
+def radiation_kick(model, dt, qm, tau0, chi_scale, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
+                   dex, dey, dez, dbx, dby, dbz):
+    """Change of u = gamma beta over dt (s) from the damping ``model`` at the momentum u.
+
+    Evaluates the force at (u, E, B): Landau-Lifshitz, or Landau-Lifshitz scaled by the
+    Gaunt factor g(chi) of that state (quantum-corrected, see quantum.py). ``NONE``
+    gives zero; an unknown code gives NaN (the particle stops) rather than a silent
+    zero. Units as ``ll_kick``; chi_scale = |q| hbar/(m^2 c^3) in m/V.
+    """
+    if model == NONE:
+        return 0.0, 0.0, 0.0
+    if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM:
+        return math.nan, math.nan, math.nan
+    gamma = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
+    inv_g = 1.0 / gamma
+    bx = ux * inv_g
+    by = uy * inv_g
+    bz = uz * inv_g
+    f2 = transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz)
+    kx, ky, kz = ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz, f2)
+    if model == LANDAU_LIFSHITZ_QUANTUM:
+        g = gaunt_factor(chi_parameter(chi_scale, gamma, f2))
+        return g * kx, g * ky, g * kz
+    return kx, ky, kz

@@ -289,11 +289,19 @@ def test_cli_writes_a_csv_table_on_axis(undulator_file, tmp_path, capsys):
     assert peak_ev == pytest.approx(330.670, rel=5e-4)   # physics-reference sec. 7 [V], see above
 
 
-def test_cli_synchrotron_table_in_hdf5(undulator_file, tmp_path, capsys):
+def test_cli_synchrotron_table_in_hdf5(tmp_path, capsys):
     import h5py
 
+    # one full turn of a gamma = 30 electron in 1 T: a closed, synchrotron-like orbit
+    source = tmp_path / "turn.h5"
+    track(Scenario.from_dict({
+        "run": {"duration": 2 * math.pi * 30 * k.m_e / (k.e * 1.0), "steps_per_period": 2000,
+                "radiation_reaction": "none"},
+        "particle": {"species": "electron", "gamma": 30.0, "direction": [1, 0, 0]},
+        "field": [{"type": "uniform", "B": [0.0, 0.0, 1.0]}],
+    })).to_hdf5(source)
     out = tmp_path / "sync.h5"
-    assert main(["spectrum", str(undulator_file), "--method", "synchrotron", "-o", str(out)]) == 0
+    assert main(["spectrum", str(source), "--method", "synchrotron", "-o", str(out)]) == 0
     assert "critical photon energy" in capsys.readouterr().out
     with h5py.File(out, "r") as h5:
         assert h5["dW_domega"].attrs["unit"] == "J s"

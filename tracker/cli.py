@@ -382,7 +382,8 @@ def build_parser():
                           help="observer direction (repeatable; default: along the mean velocity)")
     spectrum.add_argument("--omega-range", metavar="LOW,HIGH,N",
                           help="angular frequency grid, rad/s or with units, e.g. '1e15,1e19,400' ")
-    spectrum.add_argument("--method", choices=("direct", "nufft", "synchrotron"), default="nufft")
+    spectrum.add_argument("--method", choices=("auto", "direct", "nufft", "synchrotron"), default="auto",
+                          help="auto (default) chooses by the orbit and prints why")
     spectrum.add_argument("-o", "--output", help="write the table (.h5 or .csv)")
     spectrum.set_defaults(func=cmd_spectrum)
     return parser

@@ -339,10 +339,36 @@ def test_spectrum_panel_draws_maps_and_spectra_for_both_runs():
     panel.update(pair)
     image = panel.map_sources["damped"].data["image"][0]
     assert image.shape == (64, 73) and np.all(np.isfinite(image)) and image.max() > 0
-    for method in ("synchrotron", "nufft"):
+    for method in ("auto", "synchrotron", "nufft"):
         panel.method.value = method
         panel.compute_spectrum(wait=True)
         assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+        if method == "auto":
+            assert "method chosen: synchrotron formula" in panel.status.object   # a closed orbit
         for name in ("damped", "undamped"):
             y = np.asarray(panel.spectrum_sources[name].data["y"], dtype=float)
             assert len(y) > 100 and np.nanmax(y) > 0
+
+
+def test_spectrum_panel_takes_a_photon_range_and_a_direction():
+    from ui.views.spectrum import SpectrumPanel
+
+    # an open arc of a gamma = 20 electron: the radiation integral towards a typed direction
+    pair = compare(Scenario.from_dict({
+        "run": {"duration": "20 ps", "steps_per_period": 4000},
+        "particle": {"species": "electron", "gamma": 20.0, "direction": [1, 0, 0]},
+        "field": [{"type": "uniform", "B": [0.0, 0.0, 0.1]}],
+    }))
+    panel = SpectrumPanel()
+    panel.update(pair)
+    panel.method.value = "nufft"
+    panel.range_low.value, panel.range_high.value = "1 meV", "10 meV"
+    panel.direction.value = "1, 0.05, 0"
+    panel.compute_spectrum(wait=True)
+    assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+    assert "+0.9988, +0.0499" in panel.status.object
+    x = np.asarray(panel.spectrum_sources["damped"].data["x"], dtype=float)
+    assert len(x) == 800 and x.min() == pytest.approx(1e-3, rel=1e-9)   # eV axis
+    panel.range_high.value = ""
+    panel.compute_spectrum(wait=True)
+    assert panel.status.object.startswith("No spectrum: photon range: give both ends")

@@ -65,7 +65,11 @@ def parse_angular_frequency(text, key="--omega-range"):
     Angular frequency ("2e18 rad/s", "1/fs") is taken as is, frequency in hertz
     ("300 THz") is multiplied by 2 pi, photon energy ("1 keV") divided by hbar.
     """
+    from ..units import MAX_QUANTITY_LENGTH
+
     text = str(text).strip()
+    if len(text) > MAX_QUANTITY_LENGTH:
+        raise ScenarioError(key, f"is too long for a quantity (at most {MAX_QUANTITY_LENGTH} characters).")
     try:
         return float(text)
     except ValueError:

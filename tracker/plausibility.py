@@ -36,6 +36,8 @@ MAX_TIME = 1e18
 #: largest scenario file read (bytes): bundled scenarios are ~1 kB; a field map would
 #: come as a separate data file (common practice, no source).
 MAX_SCENARIO_BYTES = 1_000_000
+#: deepest nesting of arrays and tables accepted (a scenario needs 3: [[field]] -> vector)
+MAX_NESTING = 8
 
 EV_PREFIXES = (("GeV", 1e9), ("MeV", 1e6), ("keV", 1e3), ("eV", 1.0),
                ("meV", 1e-3))
@@ -86,11 +88,30 @@ def toml_table(text):
     if len(text) > MAX_SCENARIO_BYTES:
         raise ScenarioError("", f"the scenario text is longer than {MAX_SCENARIO_BYTES:,} characters.")
     try:
-        return tomllib.loads(text)
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ScenarioError("", f"not valid TOML: {exc}") from None
     except RecursionError:
-        raise ScenarioError("", "not valid TOML for a scenario: arrays or tables nested too deeply.") from None
+        data = None
+    if data is None or nesting_depth(data) > MAX_NESTING:
+        raise ScenarioError("", f"not a scenario: arrays or tables nested more than {MAX_NESTING} deep.")
+    return data
+
+
+def nesting_depth(value):
+    """Deepest nesting of lists and dicts in ``value`` (counted without recursion)."""
+    deepest = 0
+    stack = [(value, 0)]
+    while stack:
+        item, depth = stack.pop()
+        deepest = max(deepest, depth)
+        if depth > MAX_NESTING:
+            break
+        if isinstance(item, dict):
+            stack.extend((v, depth + 1) for v in item.values())
+        elif isinstance(item, (list, tuple)):
+            stack.extend((v, depth + 1) for v in item)
+    return deepest
 
 
 # ---------------------------------------------------------------------- fields_at times

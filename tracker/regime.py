@@ -37,6 +37,9 @@ from .validity import CHI_QUANTUM, MAX_LOSS_PER_STEP, MIN_STEPS_PER_PERIOD, R_C_
 POINTS_PER_CYCLE = 64
 #: a Gaussian envelope is integrated over +-this many intensity FWHM
 GAUSSIAN_SPAN = 3.0
+#: longer pulses (in carrier cycles) use the cycle-averaged integral instead of sampling
+#: (sampling a 1 s pulse of a 1 um laser would need 1e16 points)
+MAX_SAMPLED_CYCLES = 20_000
 #: R_c below which radiation reaction is a small correction (common practice, no source)
 R_C_WEAK = 1e-2
 #: E/(c B) above which crossed fields count as strong for the pusher choice
@@ -68,6 +71,8 @@ def pulse_derivative_squared(values, omega):
     else:
         half = GAUSSIAN_SPAN * values["duration"]
     cycles = 2.0 * half * omega / (2.0 * math.pi)
+    if cycles > MAX_SAMPLED_CYCLES:
+        return _long_pulse_derivative_squared(values, omega, circular)
     n = int(max(2000, POINTS_PER_CYCLE * cycles))
     s = np.linspace(-half, half, n)
     if values["envelope"] == "sin2":
@@ -84,6 +89,20 @@ def pulse_derivative_squared(values, omega):
     integrand = d1 * d1 + d2 * d2
     peak = float(np.sqrt(integrand.max()))
     return float(np.trapezoid(integrand, omega * s)), peak
+
+
+def _long_pulse_derivative_squared(values, omega, circular):
+    """``pulse_derivative_squared`` for a pulse of many cycles: the carrier averages out,
+    |da/dphi|^2 -> g^2 (1/2 linear, 1 circular) up to O(1/(omega T)^2) [derived], so
+    Int |a'|^2 dphi = omega Int g^2 ds with Int cos^4(pi s/T) ds = 3T/8 and
+    Int exp(-c4 s^2) ds = sqrt(pi/c4); the peak of |a'| is 1."""
+    from .fields.laser import SIN2_FWHM_FRACTION
+
+    if values["envelope"] == "sin2":
+        g2 = 3.0 / 8.0 * values["duration"] / SIN2_FWHM_FRACTION
+    else:
+        g2 = math.sqrt(math.pi * values["duration"] ** 2 / (4.0 * math.log(2.0)))
+    return omega * g2 * (1.0 if circular else 0.5), 1.0
 
 
 def regime(scenario):

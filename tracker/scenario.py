@@ -319,8 +319,8 @@ MAX_COUNT = 2**53
 
 
 def _integer(value, key, minimum=1):
-    if (isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value)
-            or value != int(value) or value < minimum):
+    if (isinstance(value, bool) or not isinstance(value, (int, float))
+            or (isinstance(value, float) and not math.isfinite(value)) or value != int(value) or value < minimum):
         raise ScenarioError(key, f"must be a whole number >= {minimum}, not {brief(value)}.")
     if value > MAX_COUNT:
         raise ScenarioError(key, f"must be at most 2^53 = {MAX_COUNT:.4g}, not {brief(value)}.")

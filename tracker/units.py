@@ -79,36 +79,42 @@ def parse_scalar(value, dimension, key):
 
 
 def _parse_string(text, dimension, key):
+    value, problem = _si_value(text, dimension)
+    if problem:
+        raise ScenarioError(key, problem)
+    return value
+
+
+@lru_cache(maxsize=4096)
+def _si_value(text, dimension):
+    """(SI float, None) or (None, problem text) for a unit string. Cached: pint takes ~3 ms
+    per string, and the lab re-validates the whole scenario after every edit."""
     import pint
 
     if len(text) > MAX_QUANTITY_LENGTH:
-        raise ScenarioError(key, f"{brief(text)} is too long for a quantity (at most {MAX_QUANTITY_LENGTH} "
-                                 "characters, e.g. \"1.5 T\").")
+        return None, (f"{brief(text)} is too long for a quantity (at most {MAX_QUANTITY_LENGTH} "
+                      "characters, e.g. \"1.5 T\").")
     if dimension == "magnetic_field":
         gauss = _GAUSS.match(text)
         if gauss:
-            return float(gauss.group(1)) * GAUSS_IN_TESLA[gauss.group(2)]
+            return float(gauss.group(1)) * GAUSS_IN_TESLA[gauss.group(2)], None
     ureg = registry()
     try:
         quantity = ureg.Quantity(text.strip())
+        if not hasattr(quantity, "to"):
+            # a bare number in a string ("2.5") may come back as a plain number
+            quantity = ureg.Quantity(float(quantity))
     except Exception as exc:  # pint raises several unrelated types for bad text
-        raise ScenarioError(key, f"cannot read {brief(text)} as a quantity ({brief(str(exc), 80)}).") from None
-    if not hasattr(quantity, "to"):
-        # a bare number in a string ("2.5") comes back as a plain float
-        quantity = ureg.Quantity(float(quantity))
+        return None, f"cannot read {brief(text)} as a quantity ({brief(str(exc), 80)})."
     unit = SI_UNITS[dimension]
     try:
-        if unit:
-            return float(quantity.to(unit).magnitude)
-        return float(quantity.to("dimensionless").magnitude)
+        return float(quantity.to(unit or "dimensionless").magnitude), None
     except pint.DimensionalityError:
         want = unit or "a plain number"
         hint = " (gauss: \"1e4 G\", \"10 kG\")" if dimension == "magnetic_field" else ""
-        raise ScenarioError(
-            key, f"{brief(text)} has the wrong dimension; expected {dimension} ({want}){hint}."
-        ) from None
+        return None, f"{brief(text)} has the wrong dimension; expected {dimension} ({want}){hint}."
     except (TypeError, ValueError, OverflowError, ArithmeticError) as exc:
-        raise ScenarioError(key, f"cannot read {brief(text)} as a quantity ({brief(str(exc), 80)}).") from None
+        return None, f"cannot read {brief(text)} as a quantity ({brief(str(exc), 80)})."
 
 
 def parse_vector(value, dimension, key):

@@ -31,7 +31,8 @@ import math
 import numpy as np
 
 from . import constants as k
-from .validity import CHI_QUANTUM, MAX_LOSS_PER_STEP, MIN_STEPS_PER_PERIOD, R_C_DOMINATED, laser_rows, species_a0
+from .validity import (CHI_QUANTUM, MAX_LOSS_PER_STEP, MIN_STEPS_PER_PERIOD, R_C_DOMINATED, format_count,
+                       laser_rows, species_a0)
 
 #: sampling of a laser pulse for Int |a'|^2 dphi (points per carrier period)
 POINTS_PER_CYCLE = 64
@@ -168,9 +169,18 @@ def recommend_resolution(scenario, lasers, static):
     run = scenario.run
     plan = scenario.plan()
     out = []
-    spp = plan.steps_per_period
-    if spp is not None and spp < MIN_STEPS_PER_PERIOD:
-        out.append(f"raise steps_per_period to >= {math.ceil(MIN_STEPS_PER_PERIOD)} (now {spp:.3g})")
+    spp = plan.steps_per_period   # the plan's own resolution: check and run read the same number
+    speedup = mirror_speedup(scenario, plan)
+    if spp is not None and spp / speedup < MIN_STEPS_PER_PERIOD:
+        target = format_count(spp * MIN_STEPS_PER_PERIOD / (spp / speedup))
+        where = (f"; only {spp / speedup:.3g} where the particle mirrors: the gyration speeds up by "
+                 f"u^2/u_perp^2 = {speedup:.3g} there (conserved magnetic moment)" if speedup > 1.0 else "")
+        key = "dt" if run.dt is not None else "steps_per_period"
+        if key == "dt":
+            out.append(f"dt <= {plan.dt * spp / speedup / MIN_STEPS_PER_PERIOD:.3g} s (now {spp:.3g} steps per "
+                       f"period at the start{where})")
+        else:
+            out.append(f"raise steps_per_period to >= {target} (now {spp:.3g} at the start{where})")
     gamma_drop = static["gamma_final"] / max(1.0, math.sqrt(1.0 + float(scenario.particle.u @ scenario.particle.u)))
     for las in lasers:
         gamma_drop = min(gamma_drop, 1.0 / las["h"])
@@ -185,6 +195,38 @@ def recommend_resolution(scenario, lasers, static):
     if not out:
         out.append(f"as planned ({spp:.3g} steps per period)" if spp else "as planned")
     return out
+
+
+#: static magnetic models whose strength varies along field lines (mirror points exist)
+MIRRORING_FIELDS = ("mirror", "dipole", "tokamak")
+
+
+def mirror_speedup(scenario, plan):
+    """How much faster than at the start the gyration can become, >= 1.
+
+    In a static magnetic field that varies slowly, |u| and the magnetic moment
+    u_perp^2/B are conserved (first adiabatic invariant; T. G. Northrop, The Adiabatic
+    Motion of Charged Particles (1963), ch. 1, from memory), so B -- and the gyration
+    rate -- grow at most by u^2/u_perp^2 = 1/sin^2(pitch) before the particle mirrors.
+    Applies when the plan's fastest scale is the gyration, the fields are static magnetic
+    ones of ``MIRRORING_FIELDS`` (plus uniform ones) and there is no E at the start; else 1.
+    """
+    types = {f.type for f in scenario.fields}
+    if "gyration" not in str(plan.period_source) or not types & set(MIRRORING_FIELDS):
+        return 1.0
+    if not types <= set(MIRRORING_FIELDS) | {"uniform"}:
+        return 1.0
+    p = scenario.particle
+    e, b = scenario.fields_at(np.array([p.position], dtype=float), 0.0)
+    e, b = e[0], b[0]
+    u = np.asarray(p.u, dtype=float)
+    b2, u2 = float(b @ b), float(u @ u)
+    if float(e @ e) > 0 or not (b2 > 0 and u2 > 0):
+        return 1.0
+    u_perp2 = u2 - float(u @ b) ** 2 / b2
+    if not u_perp2 > 0:
+        return 1.0   # moving along B: no gyration to speed up
+    return max(1.0, u2 / u_perp2)
 
 
 def _strength(r_c):

@@ -15,7 +15,8 @@ Two methods compute what a distant detector sees from a tracked orbit:
 ``choose_method(result)`` picks by that physics and says why in one line:
 
 1. an open orbit whose saved sampling resolves the radiation integral up to
-   ``COVERAGE`` times the largest critical frequency: the radiation integral
+   ``COVERAGE`` times the largest critical frequency, recorded long enough that its
+   frequency resolution is below that critical frequency: the radiation integral
    (exact; nothing is assumed about the orbit);
 2. else a synchrotron-like orbit (K >= ``SYNCHROTRON_MIN_K``, or closed): the
    synchrotron formula;
@@ -131,15 +132,15 @@ def choose_method(result, directions=None):
     kappa = deflection_parameter(result)
     wc = largest_critical_frequency(result)
     closed = math.isinf(kappa)
-    resolved = 0.0
+    resolved, finest = 0.0, math.inf
     if not closed:
         n = (np.atleast_2d(np.asarray(directions, dtype=float)) if directions is not None
              else default_direction(result)[None, :])
-        _, high = resolved_band(result, n)
-        resolved = float(np.min(high))
+        low, high = resolved_band(result, n)
+        resolved, finest = float(np.min(high)), float(np.max(low))
     kappa_text = "a closed orbit" if closed else f"gamma theta = {kappa:.2g}"
     bound = "" if closed else f" >= {SYNCHROTRON_MIN_K:g}"
-    if not closed and wc > 0 and resolved >= COVERAGE * wc:
+    if not closed and wc > 0 and resolved >= COVERAGE * wc and finest <= wc:
         return "nufft", (f"radiation integral: the saved states resolve it up to {resolved / wc:.3g} omega_c "
                          f"({kappa_text}); exact in the chosen direction")
     if wc <= 0:
@@ -148,10 +149,15 @@ def choose_method(result, directions=None):
         why = ("a closed orbit has no single forward direction" if closed else
                f"the saved states resolve the radiation integral only to {resolved / wc:.2g} omega_c")
         return "synchrotron", f"synchrotron formula: the orbit is synchrotron-like ({kappa_text}{bound}) and {why}"
-    raise ScenarioError("method", f"neither spectrum method is valid for this run: the orbit is undulator-like "
-                                  f"({kappa_text} < {SYNCHROTRON_MIN_K:g}), where the synchrotron formula fails, "
-                                  f"and the saved states resolve the radiation integral only to "
-                                  f"{resolved / wc:.2g} omega_c. Track with save_every = 1 and a smaller dt.")
+    if finest > wc:
+        sampling = (f"the record is too short for the radiation integral (its frequency resolution is "
+                    f"{finest / wc:.2g} omega_c). Track for longer")
+    else:
+        sampling = (f"the saved states resolve the radiation integral only to {resolved / wc:.2g} omega_c. "
+                    "Track with save_every = 1 and a smaller dt")
+    raise ScenarioError("method", f"neither spectrum method is valid for this run: the orbit is not "
+                                  f"synchrotron-like ({kappa_text} < {SYNCHROTRON_MIN_K:g}), where the synchrotron "
+                                  f"formula fails, and {sampling}.")
 
 
 def clip_to_ceiling(result, omega):

@@ -4,11 +4,10 @@ Sources:
 - X-ray Data Booklet (LBNL), sec. 2.1 (K.-J. Kim): K = 0.934 lambda_u[cm] B0[T],
   lambda_n = lambda_u/(2 n gamma^2) (1 + K^2/2 + gamma^2 theta^2), relative line width ~ 1/(nN),
   on-axis d2I/domega dOmega = (q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K) (printed forms from memory --
-  verify; SI coefficients and check values [V] in physics-reference.md sec. 7).
+  verify; check values computed from these formulas with scipy constants and scipy.special.jv).
 - J. D. Jackson, Classical Electrodynamics, 3rd ed., sec. 14.5, eqs. (14.65)-(14.67): the radiation
   integral and its beta-dot form; sec. 14.3 eq. (14.38) for dP/dOmega (numbers from memory -- verify).
-- Parseval's theorem (energy per solid angle = time integral of dP(t')/dOmega), as checked in
-  physics-reference.md sec. 7, check 2.
+- Parseval's theorem (energy per solid angle = time integral of dP(t')/dOmega; Jackson sec. 14.5).
 """
 
 import math
@@ -70,7 +69,7 @@ def booklet_k(b0_tesla, period_m):
 
 
 def on_axis_peak(n, K, gamma, periods):
-    """(q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K), X-ray Data Booklet sec. 2.1 (physics-reference sec. 7), J s/sr."""
+    """(q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K), X-ray Data Booklet sec. 2.1, J s/sr."""
     xi = n * K**2 / (4 * (1 + K**2 / 2))
     f_n = n**2 * K**2 / (1 + K**2 / 2) ** 2 * (jv((n - 1) // 2, xi) - jv((n + 1) // 2, xi)) ** 2
     return k.e**2 / (4 * math.pi * k.epsilon_0 * k.c) * periods**2 * gamma**2 * f_n
@@ -117,7 +116,7 @@ def test_undulator_on_axis_harmonics(undulator, n):
 
 
 def test_undulator_fundamental_check_value(undulator):
-    # physics-reference sec. 7 [V]: 1 GeV, lambda_u = 2 cm, B0 = 0.5 T: lambda_1(0) = 3.749486 nm (330.670 eV);
+    # computed from the booklet formulas with scipy constants: 1 GeV, lambda_u = 2 cm, B0 = 0.5 T: lambda_1(0) = 3.749486 nm (330.670 eV);
     # ideal N = 50 peak 2.628721e-27 J s/sr, times (49.5/50)^2 for the half-strength end poles [derived]
     omega_1 = 2 * math.pi * k.c / 3.749486e-9
     assert k.hbar * omega_1 / k.e == pytest.approx(330.670, rel=1e-5)
@@ -127,7 +126,8 @@ def test_undulator_fundamental_check_value(undulator):
 
 
 def test_undulator_line_moves_off_axis_as_booklet_says(undulator):
-    # lambda_1(theta) = lambda_u/(2 gamma^2) (1 + K^2/2 + gamma^2 theta^2); physics-reference sec. 7 [V]:
+    # lambda_1(theta) = lambda_u/(2 gamma^2) (1 + K^2/2 + gamma^2 theta^2), evaluated with
+    # scipy constants:
     # theta = 1/gamma gives 6.36069 nm. Measured in the plane normal to the wiggle (y-z), where the
     # line stays a clean single peak.
     gamma = float(undulator.gamma[0])
@@ -193,7 +193,7 @@ def test_spectrum_integrates_to_the_radiated_energy(laser_kick):
 
 
 def test_parseval_in_one_direction(laser_kick):
-    # physics-reference sec. 7, check 2: Int d2W/domega dOmega domega = Int dP(t')/dOmega dt'
+    # Parseval (Jackson sec. 14.5): Int d2W/domega dOmega domega = Int dP(t')/dOmega dt'
     # (dP/dOmega per unit retarded time, Jackson 14.38).
     omega0 = 2 * math.pi * k.c / 0.8e-6
     theta, phi = 0.6, 0.3
@@ -225,7 +225,7 @@ def bend_arc():
 
 
 def test_window_removes_the_truncation_tail(bend_arc):
-    # common practice, no source (physics-reference sec. 7, caution 4): cutting the record while
+    # common practice, no source: cutting the record while
     # the charge accelerates leaks a slowly falling tail into directions the orbit never points to;
     # the default taper suppresses it. Direction: in the orbit plane, 0.6 rad behind the start
     # tangent (18/gamma outside the fan). Measured suppression 1e-4 .. 1e-8 over 0.3 .. 2 omega_c.
@@ -286,7 +286,7 @@ def test_cli_writes_a_csv_table_on_axis(undulator_file, tmp_path, capsys):
     energy_ev = table[:, 1]
     assert energy_ev[0] == pytest.approx(320.0, rel=1e-9) and energy_ev[-1] == pytest.approx(340.0, rel=1e-9)
     peak_ev = energy_ev[np.argmax(table[:, 2])]
-    assert peak_ev == pytest.approx(330.670, rel=5e-4)   # physics-reference sec. 7 [V], see above
+    assert peak_ev == pytest.approx(330.670, rel=5e-4)   # booklet formula, see above
 
 
 def test_cli_synchrotron_table_in_hdf5(tmp_path, capsys):

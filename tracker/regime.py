@@ -8,13 +8,13 @@ Estimates
 ---------
 * a0 of each plane wave, for the tracked species: |q| E0/(m c omega).
 * chi: in a plane wave chi = gamma (1 - n.beta) E0/E_S exactly (E_S = m^2 c^3/(|q| hbar);
-  physics-reference sec. 9), at the peak of the pulse and the initial momentum; in
+  Di Piazza et al. 2012, from memory), at the peak of the pulse and the initial momentum; in
   the static fields at the start, chi = gamma sqrt(|E + v x B|^2 - (E.v)^2/c^2)/E_S.
 * Radiation-reaction strength. Laser: R_c = alpha a0 chi (Di Piazza et al.,
   Rev. Mod. Phys. 84, 1177 (2012), section from memory) and the classical loss
   across the whole pulse from the exact Landau-Lifshitz solution in a plane wave,
   u^-_f = u^-_0/h, h = 1 + tau0 omega u^-_0 Int |a'(phi)|^2 dphi (A. Di Piazza,
-  Lett. Math. Phys. 83, 305 (2008); physics-reference sec. 5). Static fields: the
+  Lett. Math. Phys. 83, 305 (2008)). Static fields: the
   radiative cooling time t_cool = gamma m c^2/P at the start against the run
   duration; for P ~ gamma^2 (ultra-relativistic) gamma(t) = gamma0/(1 + t/t_cool)
   [derived from d gamma/dt = -gamma^2/(gamma0 t_cool)].
@@ -130,7 +130,7 @@ def regime(scenario):
         eta0 = gamma0 * (1.0 - float(beta0 @ n))   # light-front momentum u^- = gamma - n.u
         a0s = species_a0(a0, scenario)
         integral, peak = pulse_derivative_squared(f, omega)
-        # chi = u^- |a'|_max hbar omega/(m c^2) = gamma (1 - n.beta) E_peak/E_S (physics-reference sec. 5, 9)
+        # chi = u^- |a'|_max hbar omega/(m c^2) = gamma (1 - n.beta) E_peak/E_S (Di Piazza 2008; Di Piazza et al. 2012)
         chi = eta0 * a0s * peak * k.hbar * omega / rest
         h = 1.0 + tau0 * omega * eta0 * a0s**2 * integral
         lasers.append({"field": i, "a0": a0, "a0_species": a0s, "chi": chi, "R_c": k.alpha * a0s * chi,

@@ -8,8 +8,9 @@ state's position and time,
 
 the standard result for dv/dt (see ``tracker.radiation.power``). Radiation
 reaction changes the acceleration by ~tau0 omega ~ 1e-6 of this in every
-bundled scenario (physics-reference sec. 3: |F_RR|/|F_L| = 1.1e-6 at
-gamma = 1000, B = 1 T) and is left out of the emission kernel.
+bundled scenario (|F_RR|/|F_L| ~ tau0 gamma omega_B = 1.1e-6 at gamma = 1000,
+B = 1 T [computed from the Landau-Lifshitz force, Landau & Lifshitz vol. 2, sec. 76])
+and is left out of the emission kernel.
 
 Power per unit solid angle per unit *retarded* (emission) time t':
 

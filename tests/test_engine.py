@@ -5,7 +5,7 @@ from pathlib import Path
 import pytest
 
 from tracker import load_scenario, track
-from tracker.kernel import run_blocks, run_single
+from tracker.kernel import run_single
 
 SCENARIOS = sorted((Path(__file__).resolve().parent.parent / "scenarios").glob("*.toml"))
 

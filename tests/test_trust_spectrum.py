@@ -1,7 +1,6 @@
 """Spectra only where the method is valid, and lab start-up errors in one line (issue
 "trust at first sight")."""
 
-import math
 import socket
 from pathlib import Path
 

@@ -107,11 +107,28 @@ def outside_reason(scenario, x):
     return None
 
 
+def snapshot_slots(scenario, bundle):
+    """Overall saved-state indices nearest the requested ``run.snapshots`` times (s), int64 (k,)."""
+    times = np.asarray(getattr(scenario.run, "snapshots", ()) or (), dtype=float)
+    if times.size == 0 or bundle.count == 1:
+        return np.zeros(0, dtype=np.int64)
+    plan = bundle.plan
+    interval = bundle.plan_row[PL_INTERVAL]
+    if interval > 0:     # adaptive beam: saved on a common time grid
+        slots = np.rint(times / interval)
+    else:                # fixed steps: every save_every steps, and the last step
+        steps = np.minimum(np.rint(times / plan.dt), plan.steps)
+        slots = np.rint(steps / plan.save_every)
+        slots = np.where(steps >= plan.steps, (plan.steps + plan.save_every - 1) // plan.save_every, slots)
+    return slots.astype(np.int64)
+
+
 def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
     """Run a compiled Bundle to the end (or until cancelled).
 
     Returns (arrays dict of (n_saved, N[, 3]) or None, statistics array (n_saved, NSTAT),
-    final state (STATE_SIZE, N), wall time s, kernel load time s).
+    final state (STATE_SIZE, N), wall time s, kernel load time s, snapshots list of
+    (saved-state index, x (N, 3) m, u (N, 3))).
     """
     state = np.array(bundle.state)  # writable copy; the Bundle stays read-only
     n = bundle.count
@@ -127,7 +144,8 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
         run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values())
     else:
         run_blocks(*table, sp, pl, state.copy(), bundle.weight, 0, math.inf, 0, True,
-                   *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)))
+                   *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)),
+                   np.zeros(0, dtype=np.int64), np.zeros((0, n, 3)), np.zeros((0, n, 3)))
     load_time = time.perf_counter() - load_start
     start = time.perf_counter()
     slot_base = 0
@@ -135,6 +153,9 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
         windows = max(1, round(CHUNK_STEPS / (n * bundle.plan.save_every)))
         t_stop = 0.0
     steps, capacity = _chunk_plan(bundle)
+    snap_slots = snapshot_slots(scenario, bundle)
+    snap_x = np.full((len(snap_slots), n, 3), np.nan)
+    snap_u = np.full((len(snap_slots), n, 3), np.nan)
     while True:
         if grid:
             t_stop = t_stop + windows * interval
@@ -150,7 +171,7 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
             run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values())
         else:
             run_blocks(*table, sp, pl, state, bundle.weight, call_steps, call_stop, slot_base, store_all,
-                       *buffers.values(), partials)
+                       *buffers.values(), partials, snap_slots, snap_x, snap_u)
         saved = int(np.max(state[SAVED])) - slot_base
         if store_all or single:
             pieces.append({name: a[:saved] for name, a in buffers.items()})
@@ -170,7 +191,8 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
     if pieces:
         arrays = {name: np.concatenate([p[name] for p in pieces]) for name in ARRAY_NAMES}
     stats = np.concatenate(stat_pieces) if stat_pieces else np.zeros((0, NSTAT))
-    return arrays, stats, state, wall, load_time
+    snapshots = [(int(k), snap_x[m], snap_u[m]) for m, k in enumerate(snap_slots) if k < slot_base]
+    return arrays, stats, state, wall, load_time, snapshots
 
 
 def _meta(scenario, bundle, state, stop, wall, load_time):
@@ -209,7 +231,7 @@ def track(scenario, progress=None, cancel=None):
     bundle = compile_scenario(scenario)
     if getattr(scenario, "beam", None) is not None:
         return _track_beam(scenario, bundle, progress, cancel)
-    arrays, _, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel)
+    arrays, _, state, wall, load_time, _ = run_bundle(bundle, scenario, progress, cancel)
     stop, lost = _stop_reason(scenario, bundle, state)
     if lost[0] == LOST_DOMAIN:
         stop = f"{STOP_LEFT_DOMAIN}: {outside_reason(scenario, state[X:X + 3, 0])} (run stopped, last good state kept)"
@@ -226,15 +248,17 @@ def _track_beam(scenario, bundle, progress, cancel):
     from .beam_result import BeamResult
 
     store_all = getattr(scenario.run, "save", "all") == "all"
-    arrays, stats, state, wall, load_time = run_bundle(bundle, scenario, progress, cancel, store_all)
+    arrays, stats, state, wall, load_time, snaps = run_bundle(bundle, scenario, progress, cancel, store_all)
     stop, lost = _stop_reason(scenario, bundle, state)
     meta = _meta(scenario, bundle, state, stop, wall, load_time)
     meta["lost"] = {LOST_REASONS[c]: int(np.sum(lost == c)) for c in LOST_REASONS if np.any(lost == c)}
     arrays = arrays or {}
     t = stats[:, 0].copy()
+    weight = np.array(bundle.weight)
+    snapshots = [(float(t[k]), x, u, weight) for k, x, u in snaps if k < len(t)]
     result = BeamResult(scenario=scenario, meta=meta, t=t, lost=lost,
-                        lost_time=np.where(lost != LOST_NONE, state[T], np.nan),
-                        stats=statistics_from_moments(stats),
+                        lost_time=np.where(lost != LOST_NONE, state[T], np.inf), weight=weight,
+                        stats=statistics_from_moments(stats), snapshots=snapshots,
                         **{name: arrays.get(name) for name in ARRAY_NAMES if name != "t"})
     return result
 

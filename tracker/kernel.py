@@ -25,8 +25,9 @@ from .config import KERNEL
 from .fields.evaluate import field_at
 from .pushers.dispatch import push
 from .radiation.reaction import radiation_kick
-from .step import (BPREV, DTPREV, EPREV, GAMMA_HALF, PL_DAMPING, PL_PUSHER, RAD, RUNNING, SAVED, SP_CHI, SP_QM,
-                   SP_TAU0, STATE_SIZE, STATUS, T, U, WORK, X, advance)
+from .step import (BPREV, DTPREV, EPREV, GAMMA_HALF, PL_ADAPTIVE, PL_DAMPING, PL_PUSHER, RAD, RUNNING, SAVED, SP_CHI, SP_QM,
+                   SP_TAU0, STATE_SIZE, STATUS, T, U, WORK, X, advance, load_state, plan_tuple, species_tuple,
+                   adaptive_rate, store_state)
 
 #: particles per block: the particle loop inside the step loop works on this many (common practice)
 BLOCK = 64
@@ -213,59 +214,70 @@ def reduce_partials(partials, n_used, out):
 
 @njit(parallel=True, **KERNEL)
 def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot_base, store_all,
-               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials):
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials,
+               snap_slots, snap_x, snap_u):
     """Advance every running particle by up to ``n_steps`` steps, or until its time reaches ``t_stop`` (s).
 
     Saved states go to slot ``saved - 1 - slot_base`` of the chunk: the full arrays
     (``out_*``, shapes (slots, N) and (slots, N, 3)) when ``store_all``, and always the
-    block partials (blocks, slots, NSTAT). Units: SI; u = gamma beta.
+    block partials (blocks, slots, NSTAT). A saved state whose overall index is
+    ``snap_slots[k]`` is also copied to the snapshot ``snap_x[k]``, ``snap_u[k]`` (N, 3).
+    Units: SI; u = gamma beta.
     """
     n = state.shape[1]
     n_blocks = (n + BLOCK - 1) // BLOCK
     n_slots = partials.shape[1]
+    spt = species_tuple(sp)
+    plt = plan_tuple(pl)
+    adaptive = pl[PL_ADAPTIVE] != 0.0
     for b in prange(n_blocks):
         b0 = b * BLOCK
         b1 = min(n, b0 + BLOCK)
         scratch = np.zeros((n_slots, b1 - b0, NQ))
-        used = 0
         for _ in range(n_steps):
             active = 0
             for j in range(b0, b1):
                 if state[STATUS, j] != RUNNING or state[T, j] >= t_stop:
                     continue
                 active += 1
-                x = state[X, j]
-                y = state[X + 1, j]
-                z = state[X + 2, j]
-                r = advance(kinds, params, data, sp, pl, state, j)
-                if r[0]:
+                s = load_state(state, j)
+                f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
+                s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
+                store_state(state, j, s_new)
+                if recorded:
                     slot = int(state[SAVED, j]) - 1 - slot_base
-                    if slot + 1 > used:
-                        used = slot + 1
                     q = scratch[slot, j - b0]
-                    q[Q_T] = r[1]
-                    q[Q_X] = x
-                    q[Q_UX] = r[2]
-                    q[Q_Y] = y
-                    q[Q_UY] = r[3]
-                    q[Q_G] = r[5]
+                    q[Q_T] = t_s
+                    q[Q_X] = s[X]
+                    q[Q_UX] = usx
+                    q[Q_Y] = s[X + 1]
+                    q[Q_UY] = usy
+                    q[Q_G] = g_s
                     q[Q_RAD] = state[RAD, j]
-                    q[Q_CHI] = r[7]
+                    q[Q_CHI] = chi
                     q[Q_W] = weight[j]
+                    for m in range(snap_slots.shape[0]):
+                        if snap_slots[m] == slot + slot_base:
+                            for c in range(3):
+                                snap_x[m, j, c] = s[X + c]
+                            snap_u[m, j, 0] = usx
+                            snap_u[m, j, 1] = usy
+                            snap_u[m, j, 2] = usz
                     if store_all:
-                        out_t[slot, j] = r[1]
-                        out_dt[slot, j] = r[8]
-                        out_x[slot, j, 0] = x
-                        out_x[slot, j, 1] = y
-                        out_x[slot, j, 2] = z
-                        out_u[slot, j, 0] = r[2]
-                        out_u[slot, j, 1] = r[3]
-                        out_u[slot, j, 2] = r[4]
-                        out_gamma[slot, j] = r[5]
-                        out_power[slot, j] = r[6]
+                        out_t[slot, j] = t_s
+                        out_dt[slot, j] = dt_s
+                        out_x[slot, j, 0] = s[X]
+                        out_x[slot, j, 1] = s[X + 1]
+                        out_x[slot, j, 2] = s[X + 2]
+                        out_u[slot, j, 0] = usx
+                        out_u[slot, j, 1] = usy
+                        out_u[slot, j, 2] = usz
+                        out_gamma[slot, j] = g_s
+                        out_power[slot, j] = power
                         out_rad[slot, j] = state[RAD, j]
                         out_work[slot, j] = state[WORK, j]
-                        out_chi[slot, j] = r[7]
+                        out_chi[slot, j] = chi
             if active == 0:
                 break
         block_partials(scratch, n_slots, partials[b])
@@ -275,25 +287,30 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
 def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
                out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi):
     """``run_blocks`` for one particle (column 0 of ``state``), without blocks or statistics."""
+    spt = species_tuple(sp)
+    plt = plan_tuple(pl)
+    adaptive = pl[PL_ADAPTIVE] != 0.0
+    s = load_state(state, 0)
     for _ in range(n_steps):
-        if state[STATUS, 0] != RUNNING:
+        if s[STATUS] != RUNNING:
             break
-        x = state[X, 0]
-        y = state[X + 1, 0]
-        z = state[X + 2, 0]
-        r = advance(kinds, params, data, sp, pl, state, 0)
-        if r[0]:
-            slot = int(state[SAVED, 0]) - 1 - slot_base
-            out_t[slot, 0] = r[1]
-            out_dt[slot, 0] = r[8]
-            out_x[slot, 0, 0] = x
-            out_x[slot, 0, 1] = y
-            out_x[slot, 0, 2] = z
-            out_u[slot, 0, 0] = r[2]
-            out_u[slot, 0, 1] = r[3]
-            out_u[slot, 0, 2] = r[4]
-            out_gamma[slot, 0] = r[5]
-            out_power[slot, 0] = r[6]
-            out_rad[slot, 0] = state[RAD, 0]
-            out_work[slot, 0] = state[WORK, 0]
-            out_chi[slot, 0] = r[7]
+        f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+        omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
+        s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
+        if recorded:
+            slot = int(s_new[SAVED]) - 1 - slot_base
+            out_t[slot, 0] = t_s
+            out_dt[slot, 0] = dt_s
+            out_x[slot, 0, 0] = s[X]
+            out_x[slot, 0, 1] = s[X + 1]
+            out_x[slot, 0, 2] = s[X + 2]
+            out_u[slot, 0, 0] = usx
+            out_u[slot, 0, 1] = usy
+            out_u[slot, 0, 2] = usz
+            out_gamma[slot, 0] = g_s
+            out_power[slot, 0] = power
+            out_rad[slot, 0] = s_new[RAD]
+            out_work[slot, 0] = s_new[WORK]
+            out_chi[slot, 0] = chi
+        s = s_new
+    store_state(state, 0, s)

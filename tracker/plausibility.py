@@ -143,7 +143,10 @@ def check_plausible(scenario, data):
     ``data`` is the raw dict the scenario came from: a plain number there gets a
     suggestion of the unit that was probably meant.
     """
-    raw_particle = data.get("particle", {}) if isinstance(data, dict) else {}
+    raw_particle = {}
+    if isinstance(data, dict):
+        raw_particle = data.get("particle", data.get("beam", {}))
+        raw_particle = raw_particle if isinstance(raw_particle, dict) else {}
     _check_particle(scenario, raw_particle)
     run = scenario.run
     if run.duration > MAX_TIME:

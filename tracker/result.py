@@ -210,9 +210,10 @@ def validated_arrays(arrays, source="result"):
 
 
 def load_result(path):
-    """Read a Result written by ``Result.to_hdf5`` (path to .h5).
+    """Read a Result (``Result.to_hdf5``) or a BeamResult (``BeamResult.to_hdf5``) from .h5,
+    chosen by the file's ``format`` attribute.
 
-    Every array is checked against the format (``validated_arrays``); a file of a newer
+    Every array of a Result is checked against the format (``validated_arrays``); a file of a newer
     format version, another format, or a damaged one raises ScenarioError (one line,
     naming the file).
     """
@@ -230,7 +231,16 @@ def load_result(path):
     except (OSError, ValueError) as exc:
         raise ScenarioError(where, f"cannot be opened as HDF5 ({exc}).") from None
     with h5:
-        if h5.attrs.get("format") != FORMAT:
+        file_format = h5.attrs.get("format")
+    from .beam_result import FORMAT as BEAM_FORMAT
+
+    if file_format == BEAM_FORMAT:
+        from .beam_result import load_beam_result
+
+        return load_beam_result(path)
+    h5 = h5py.File(path, "r")
+    with h5:
+        if file_format != FORMAT:
             raise ScenarioError(where, "is not a radorbit result file.")
         version = h5.attrs.get("format_version")
         try:

@@ -38,7 +38,6 @@ from numba import njit
 
 from . import constants as k
 from .config import LEAF
-from .fields.evaluate import field_at
 from .pushers.dispatch import push
 from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
 from .radiation.quantum import gaunt_factor
@@ -68,53 +67,97 @@ KICK_LIMIT = 0.1
 
 
 @njit(**LEAF)
-def advance(kinds, params, data, sp, pl, state, j):
-    """Advance particle ``j`` of ``state`` by one step (see the module docstring).
+def species_tuple(sp):
+    """The species row (SPECIES_SIZE,) as a tuple."""
+    return (sp[0], sp[1], sp[2], sp[3], sp[4])
 
-    Returns (saved, t, usx, usy, usz, gamma, power, chi, dt): ``saved`` is True when the
-    synchronous state at t (s) was recorded (u = gamma beta, power W, chi, dt s). The
-    recorded position is the one at t, ``state[X:X+3, j]`` before this step moved it.
+
+@njit(**LEAF)
+def plan_tuple(pl):
+    """The plan row (PLAN_SIZE,) as a tuple."""
+    return (pl[0], pl[1], pl[2], pl[3], pl[4], pl[5], pl[6], pl[7], pl[8], pl[9], pl[10], pl[11], pl[12])
+
+
+@njit(**LEAF)
+def load_state(state, j):
+    """Particle j's state as a tuple (STATE_SIZE floats) from the (STATE_SIZE, N) array."""
+    return (state[0, j], state[1, j], state[2, j], state[3, j], state[4, j], state[5, j], state[6, j],
+            state[7, j], state[8, j], state[9, j], state[10, j], state[11, j], state[12, j], state[13, j],
+            state[14, j], state[15, j], state[16, j], state[17, j], state[18, j], state[19, j], state[20, j],
+            state[21, j], state[22, j])
+
+
+@njit(**LEAF)
+def store_state(state, j, s):
+    """Write the tuple ``s`` back to column j of the state array."""
+    for i in range(STATE_SIZE):
+        state[i, j] = s[i]
+
+
+@njit(**LEAF)
+def adaptive_rate(kinds, params, data, sp, pl, s, f):
+    """Fastest local rate (rad/s) at state ``s`` with fields ``f`` = (E, B) for an adaptive step (step 2)."""
+    qm = sp[SP_QM]
+    cooling_scale = 0.0
+    if pl[PL_DAMPING] != NONE:
+        cooling_scale = sp[SP_POWER] * qm / (sp[SP_CHARGE] * k.c * k.c)  # q^2 tau0/m / (m c^2)
+    return fastest_rate(kinds, params, data, qm, cooling_scale, s[X], s[X + 1], s[X + 2], s[T],
+                        s[U], s[U + 1], s[U + 2], f[0], f[1], f[2], f[3], f[4], f[5])[0]
+
+
+@njit(**LEAF)
+def advance(sp, pl, s, f, omega):
+    """Advance one particle by one step (see the module docstring) with its local fields
+    ``f`` = (Ex, Ey, Ez, Bx, By, Bz) in V/m and T and, for adaptive runs, the fastest
+    local rate ``omega`` (rad/s, from ``adaptive_rate``).
+
+    ``sp``, ``pl`` and ``s`` are tuples (species row, plan row, state; SP_*, PL_* and
+    state slots): tuples live in registers, where
+    arrays passed to an inlined function cost atomic reference counting on every call.
+    Returns (new state tuple, saved, t, usx, usy, usz, gamma,
+    power, chi, dt): ``saved`` is True when the synchronous state at t (s) was recorded
+    (u = gamma beta, power W, chi, dt s) at the position of ``s`` (before this step).
     """
     qm = sp[SP_QM]
-    x = state[X, j]
-    y = state[X + 1, j]
-    z = state[X + 2, j]
-    ux = state[U, j]
-    uy = state[U + 1, j]
-    uz = state[U + 2, j]
-    t = state[T, j]
-    step = int(state[STEP, j])
-    dt_prev = state[DTPREV, j]
-    g_old = state[GAMMA_HALF, j]
+    x = s[X]
+    y = s[X + 1]
+    z = s[X + 2]
+    ux = s[U]
+    uy = s[U + 1]
+    uz = s[U + 2]
+    t = s[T]
+    radiated = s[RAD]
+    work = s[WORK]
+    p_prev = s[PPREV]
+    w_prev = s[WPREV]
+    step = s[STEP]
+    dt_prev = s[DTPREV]
+    saved = s[SAVED]
+    next_save = s[NEXT_SAVE]
+    g_old = s[GAMMA_HALF]
     damping = int(pl[PL_DAMPING])
     adaptive = pl[PL_ADAPTIVE] != 0.0
     grid = pl[PL_GRID] != 0.0
     t_end = pl[PL_TEND]
 
-    ex, ey, ez, bx, by, bz = field_at(kinds, params, data, x, y, z, t)
+    ex, ey, ez, bx, by, bz = f
 
-    finished = step == int(pl[PL_LAST])
+    finished = step == pl[PL_LAST]
     if grid:
-        save = t >= state[NEXT_SAVE, j]
+        save = t >= next_save
         finished = finished or (save and t >= t_end)
     else:
-        save = step % int(pl[PL_SAVE]) == 0
+        save = step - pl[PL_SAVE] * math.floor(step / pl[PL_SAVE]) == 0.0
     dt = pl[PL_DT]
     landing = False
     target = 0.0
     if adaptive:
-        cooling_scale = 0.0
-        if damping != NONE:
-            cooling_scale = sp[SP_POWER] * qm / (sp[SP_CHARGE] * k.c * k.c)  # q^2 tau0/m / (m c^2)
-        omega = fastest_rate(kinds, params, data, qm, cooling_scale, x, y, z, t, ux, uy, uz,
-                             ex, ey, ez, bx, by, bz)[0]
         dt = pl[PL_DTMAX]
         if omega > 0.0:
             dt = 2.0 * math.pi / (omega * pl[PL_SPP])
         dt = min(max(dt, pl[PL_DTMIN]), pl[PL_DTMAX])
         if grid:
-            saves = state[SAVED, j] + (1.0 if save else 0.0)
-            target = min(saves * pl[PL_INTERVAL], t_end)
+            target = min((saved + (1.0 if save else 0.0)) * pl[PL_INTERVAL], t_end)
             if t + dt >= target:
                 dt = target - t
                 landing = True
@@ -128,19 +171,19 @@ def advance(kinds, params, data, sp, pl, state, j):
 
     # push: explicit half kick, Lorentz, half kick at the predicted end state
     inv_dtp = 1.0 / dt_prev
-    dex = (ex - state[EPREV, j]) * inv_dtp
-    dey = (ey - state[EPREV + 1, j]) * inv_dtp
-    dez = (ez - state[EPREV + 2, j]) * inv_dtp
-    dbx = (bx - state[BPREV, j]) * inv_dtp
-    dby = (by - state[BPREV + 1, j]) * inv_dtp
-    dbz = (bz - state[BPREV + 2, j]) * inv_dtp
+    dex = (ex - s[EPREV]) * inv_dtp
+    dey = (ey - s[EPREV + 1]) * inv_dtp
+    dez = (ez - s[EPREV + 2]) * inv_dtp
+    dbx = (bx - s[BPREV]) * inv_dtp
+    dby = (by - s[BPREV + 1]) * inv_dtp
+    dbz = (bz - s[BPREV + 2]) * inv_dtp
     half = 0.5 * dt_push
     tau0 = sp[SP_TAU0]
     cscale = sp[SP_CHI]
     kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, ux, uy, uz, ex, ey, ez, bx, by, bz,
                                    dex, dey, dez, dbx, dby, dbz)
     hq = 0.5 * qm * dt_push
-    hqc = hq / k.c
+    hqc = hq * (1.0 / k.c)
     lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
                       hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
     kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, lx + kax, ly + kay, lz + kaz,
@@ -148,72 +191,66 @@ def advance(kinds, params, data, sp, pl, state, j):
     nux = lx + kbx
     nuy = ly + kby
     nuz = lz + kbz
+    status = RUNNING
+    recorded = False
+    usx = usy = usz = gs = power = chi = g_new = 0.0
+    betax = betay = betaz = 0.0
     if damping != NONE:
         kx = kax + kbx
         ky = kay + kby
         kz = kaz + kbz
         if kx * kx + ky * ky + kz * kz > KICK_LIMIT * KICK_LIMIT * (ux * ux + uy * uy + uz * uz):
-            state[STATUS, j] = KICK_TOO_LARGE
-            return False, t, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, dt
-
-    # diagnostics at t^n
-    g_new = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
-    gs = 0.5 * (g_old + g_new)
-    sx = ux + nux
-    sy = uy + nuy
-    sz = uz + nuz
-    s2 = sx * sx + sy * sy + sz * sz
-    scale = math.sqrt((gs * gs - 1.0) / (s2 * gs * gs)) if s2 > 0.0 else 0.0  # beta = u/gamma, |u| = sqrt(gs^2-1)
-    betax = sx * scale
-    betay = sy * scale
-    betaz = sz * scale
-    f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
-    power = lienard_power(sp[SP_POWER], gs, f2)
-    chi = chi_parameter(cscale, gs, f2)
-    if damping == LANDAU_LIFSHITZ_QUANTUM:
-        power *= gaunt_factor(chi)
-    if not math.isfinite(power + g_new):
-        # NaN or Inf from the fields or the push: stop before saving, keep the last good state
-        state[STATUS, j] = NONFINITE
-        return False, t, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, dt
-    work_rate = sp[SP_CHARGE] * k.c * (ex * betax + ey * betay + ez * betaz)
-    if step > 0:
-        state[RAD, j] += 0.5 * dt_prev * (power + state[PPREV, j])
-        state[WORK, j] += 0.5 * dt_prev * (work_rate + state[WPREV, j])
-    state[PPREV, j] = power
-    state[WPREV, j] = work_rate
-
-    recorded = save or finished
-    if recorded:
-        state[SAVED, j] += 1.0
-        if grid:
-            state[NEXT_SAVE, j] = min(state[SAVED, j] * pl[PL_INTERVAL], t_end)
-    if finished:
-        state[STATUS, j] = FINISHED
-        return recorded, t, betax * gs, betay * gs, betaz * gs, gs, power, chi, dt
-
-    step_len = k.c * dt / g_new
-    nx = x + nux * step_len
-    ny = y + nuy * step_len
-    nz = z + nuz * step_len
-    # one test catches NaN or Inf in any of them: both propagate through the sum
-    if not math.isfinite(nx + ny + nz + nux + nuy + nuz):
-        state[STATUS, j] = NONFINITE
-        return recorded, t, betax * gs, betay * gs, betaz * gs, gs, power, chi, dt
-    state[X, j] = nx
-    state[X + 1, j] = ny
-    state[X + 2, j] = nz
-    state[U, j] = nux
-    state[U + 1, j] = nuy
-    state[U + 2, j] = nuz
-    state[T, j] = target if landing else t + dt
-    state[EPREV, j] = ex
-    state[EPREV + 1, j] = ey
-    state[EPREV + 2, j] = ez
-    state[BPREV, j] = bx
-    state[BPREV + 1, j] = by
-    state[BPREV + 2, j] = bz
-    state[STEP, j] = step + 1
-    state[DTPREV, j] = dt
-    state[GAMMA_HALF, j] = g_new
-    return recorded, t, betax * gs, betay * gs, betaz * gs, gs, power, chi, dt
+            status = KICK_TOO_LARGE
+    if status == RUNNING:
+        # diagnostics at t^n
+        g_new = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
+        gs = 0.5 * (g_old + g_new)
+        sx = ux + nux
+        sy = uy + nuy
+        sz = uz + nuz
+        s2 = sx * sx + sy * sy + sz * sz
+        scale = math.sqrt((gs * gs - 1.0) / (s2 * gs * gs)) if s2 > 0.0 else 0.0  # beta = u/gamma, |u| = sqrt(gs^2-1)
+        betax = sx * scale
+        betay = sy * scale
+        betaz = sz * scale
+        f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
+        power = lienard_power(sp[SP_POWER], gs, f2)
+        chi = chi_parameter(cscale, gs, f2)
+        if damping == LANDAU_LIFSHITZ_QUANTUM:
+            power *= gaunt_factor(chi)
+        usx = betax * gs
+        usy = betay * gs
+        usz = betaz * gs
+        if not math.isfinite(power + g_new):
+            # NaN or Inf from the fields or the push: stop before saving, keep the last good state
+            status = NONFINITE
+    if status == RUNNING:
+        work_rate = sp[SP_CHARGE] * k.c * (ex * betax + ey * betay + ez * betaz)
+        if step > 0.0:
+            radiated += 0.5 * dt_prev * (power + p_prev)
+            work += 0.5 * dt_prev * (work_rate + w_prev)
+        p_prev = power
+        w_prev = work_rate
+        recorded = save or finished
+        if recorded:
+            saved += 1.0
+            if grid:
+                next_save = min(saved * pl[PL_INTERVAL], t_end)
+        if finished:
+            status = FINISHED
+    if status == RUNNING:
+        step_len = k.c * dt / g_new
+        nx = x + nux * step_len
+        ny = y + nuy * step_len
+        nz = z + nuz * step_len
+        # one test catches NaN or Inf in any of them: both propagate through the sum
+        if not math.isfinite(nx + ny + nz + nux + nuy + nuz):
+            status = NONFINITE
+        else:
+            s = (nx, ny, nz, nux, nuy, nuz, target if landing else t + dt, radiated, work, p_prev, w_prev,
+                 ex, ey, ez, bx, by, bz, step + 1.0, dt, float(status), saved, next_save, g_new)
+    if status != RUNNING:
+        # the position and momentum stay at the last good state; the sums include this step if it was good
+        s = (x, y, z, ux, uy, uz, t, radiated, work, p_prev, w_prev, s[EPREV], s[EPREV + 1], s[EPREV + 2],
+             s[BPREV], s[BPREV + 1], s[BPREV + 2], step, dt_prev, float(status), saved, next_save, g_old)
+    return s, recorded, t, usx, usy, usz, gs, power, chi, dt

@@ -1,12 +1,17 @@
-"""Write a scenario dict as TOML with SI unit comments (exact float round trip via repr)."""
+"""Write a scenario dict as TOML with SI unit comments (exact float round trip via repr).
+
+Units come from the input descriptors (``tracker.inputs``, the field registry); a value
+kept as the user typed it ("120 fs") carries its own unit and gets no comment.
+"""
 
 import json
 
+from . import inputs
 from .fields import MODELS as FIELD_MODELS
 
-RUN_UNITS = {"duration": "s", "dt": "s"}
-PARTICLE_UNITS = {"position": "m", "kinetic_energy": "J", "speed": "m/s", "momentum": "kg m/s",
-                  "mass": "kg", "charge": "C", "gamma": "", "u": "gamma*beta"}
+RUN_UNITS = {i.name: i.unit for i in inputs.RUN_INPUTS}
+PARTICLE_UNITS = {i.name: i.unit for i in inputs.PARTICLE_INPUTS}
+BEAM_UNITS = {i.name: i.unit for i in inputs.BEAM_INPUTS}
 
 
 def _value(v):
@@ -26,19 +31,23 @@ def _value(v):
 def _lines(table, units):
     out = []
     for key, v in table.items():
-        unit = units.get(key, "")
+        typed = isinstance(v, str) or (isinstance(v, (list, tuple)) and any(isinstance(x, str) for x in v))
+        unit = "" if typed else units.get(key, "")
         out.append(f"{key} = {_value(v)}" + (f"  # {unit}" if unit else ""))
     return out
 
 
 def scenario_toml(data):
     """TOML text for ``Scenario.to_dict()`` output."""
-    lines = ["# radorbit scenario (values in SI units)"]
+    lines = ["# radorbit scenario (numbers in SI units)"]
     for key in ("title", "description"):
         if key in data:
             lines.append(f"{key} = {_value(data[key])}")
     lines += ["", "[run]", *_lines(data["run"], RUN_UNITS)]
-    lines += ["", "[particle]", *_lines(data["particle"], PARTICLE_UNITS)]
+    if "beam" in data:
+        lines += ["", "[beam]", *_lines(data["beam"], BEAM_UNITS)]
+    else:
+        lines += ["", "[particle]", *_lines(data["particle"], PARTICLE_UNITS)]
     for f in data.get("field", []):
         model = FIELD_MODELS[f["type"]]
         units = {p.name: p.unit for p in model.params}

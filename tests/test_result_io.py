@@ -1,6 +1,7 @@
 """Result files, partial runs and failure handling (common practice, no source)."""
 
 import csv
+import dataclasses
 import threading
 
 import numpy as np
@@ -85,7 +86,7 @@ def test_non_finite_values_stop_the_run_and_keep_the_last_good_state():
                      steps_per_period=50)
     field = valid.fields[0]
     wild = type(field)(field.type, tuple((n, 1e290 if n == "a0" else v) for n, v in field.values))
-    result = track(valid.replace(fields=(wild,)))
+    result = track(dataclasses.replace(valid, fields=(wild,)))
     assert result.meta["stop_reason"].startswith("non-finite")
     assert 0 < result.t[-1] < 100e-15
     assert result.complete is False

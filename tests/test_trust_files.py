@@ -135,7 +135,9 @@ def test_an_unknown_extension_is_refused_before_the_run(tmp_path, capsys):
 
 
 def test_a_multi_line_title_stays_on_the_csv_comment_line(tmp_path, small):
-    titled = small.__class__(**{**small.__dict__, "scenario": small.scenario.replace(title="line one\nline, two")})
+    import dataclasses
+
+    titled = dataclasses.replace(small, scenario=dataclasses.replace(small.scenario, title="line one\nline, two"))
     path = tmp_path / "titled.csv"
     titled.to_csv(path)
     lines = path.read_text().splitlines()
@@ -183,3 +185,13 @@ def test_spectrum_of_a_csv_result_says_in_one_line_that_it_needs_hdf5(tmp_path, 
     assert main(["spectrum", str(path)]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "needs the HDF5 file" in err
+
+
+def test_a_hand_built_result_with_wrong_shapes_is_refused_before_the_compiled_code(small):
+    import dataclasses
+
+    from tracker.radiation import spectrum
+
+    bad = dataclasses.replace(small, x=small.x[:, :2])
+    with pytest.raises(ScenarioError, match="shape"):
+        spectrum(bad, [[1.0, 0.0, 0.0]], [1e15])

@@ -178,7 +178,7 @@ class Result:
 ARRAY_TRAILING_SHAPES = {"x": (3,), "u": (3,)}
 
 
-def validated_arrays(arrays, source="result"):
+def validated_arrays(arrays, source="result", names=None):
     """Check every saved array against the format: float64-convertible real numbers,
     shape (n,) or (n, 3), the same n >= 1 for all, t non-decreasing. Returns float64
     C-contiguous copies; raises ScenarioError naming the array. Nothing from a file
@@ -187,7 +187,7 @@ def validated_arrays(arrays, source="result"):
 
     out = {}
     n = None
-    for name in ARRAYS:
+    for name in names or ARRAYS:
         if name not in arrays:
             raise ScenarioError(source, f"the array {name!r} is missing.")
         raw = np.asarray(arrays[name])

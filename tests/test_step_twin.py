@@ -93,7 +93,7 @@ def test_unknown_codes_fail_loudly():
 
     unknown = max(max(PUSHERS.values()), max(RR_MODELS.values()), max(EVALUATORS)) + 17
     assert all(math.isnan(v) for v in push(unknown, 1.0, 0.0, 0.0, 0.1, 0.0, 0.0, 0.0, 0.0, 0.1))
-    assert all(math.isnan(v) for v in radiation_kick(unknown, 1e-15, -1.7e11, 6e-24, 1e-18, 1.0, 0.0, 0.0,
+    assert all(math.isnan(v) for v in radiation_kick(unknown, 1e-15, -1.7e11, 6e-24, 1e-18, math.sqrt(2.0), 1.0, 0.0, 0.0,
                                                       1e9, 0, 0, 0, 0, 1.0, 0, 0, 0, 0, 0, 0))
     kinds = np.array([unknown], dtype=np.int64)
     params = np.zeros((1, 24))

@@ -60,12 +60,12 @@ def start_states(kinds, params, data, sp, pl, x0, u0, dt, state):
         hq = -0.25 * qm * dt   # half of the push over -dt/2
         hqc = hq / k.c
         hx, hy, hz = push(pusher, ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
-        kx, ky, kz = radiation_kick(damping, 0.5 * dt, qm, sp[SP_TAU0], sp[SP_CHI], ux, uy, uz,
+        g0 = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
+        kx, ky, kz = radiation_kick(damping, 0.5 * dt, qm, sp[SP_TAU0], sp[SP_CHI], g0, ux, uy, uz,
                                     ex, ey, ez, bx, by, bz, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
         hx -= kx
         hy -= ky
         hz -= kz
-        g0 = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
         back = k.c * dt / g0
         f = field_at(kinds, params, data, x - ux * back, y - uy * back, z - uz * back, -dt)
         for s in range(STATE_SIZE):

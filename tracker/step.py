@@ -46,7 +46,7 @@ from .timescales import fastest_rate
 
 # ---------------------------------------------------------------- state slots (rows of a (STATE_SIZE, N) array)
 X, U, T, RAD, WORK, PPREV, WPREV, EPREV, BPREV = 0, 3, 6, 7, 8, 9, 10, 11, 14
-STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22
+STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22  # NEXT_SAVE: step (fixed dt) or time (s, adaptive beams)
 STATE_SIZE = 23
 
 # ---------------------------------------------------------------- species row
@@ -147,7 +147,7 @@ def advance(sp, pl, s, f, omega):
         save = t >= next_save
         finished = finished or (save and t >= t_end)
     else:
-        save = step - pl[PL_SAVE] * math.floor(step / pl[PL_SAVE]) == 0.0
+        save = step == next_save   # the next saving step (no division in the loop)
     dt = pl[PL_DT]
     landing = False
     target = 0.0
@@ -170,24 +170,31 @@ def advance(sp, pl, s, f, omega):
         dt_push = dt
 
     # push: explicit half kick, Lorentz, half kick at the predicted end state
-    inv_dtp = 1.0 / dt_prev
-    dex = (ex - s[EPREV]) * inv_dtp
-    dey = (ey - s[EPREV + 1]) * inv_dtp
-    dez = (ez - s[EPREV + 2]) * inv_dtp
-    dbx = (bx - s[BPREV]) * inv_dtp
-    dby = (by - s[BPREV + 1]) * inv_dtp
-    dbz = (bz - s[BPREV + 2]) * inv_dtp
-    half = 0.5 * dt_push
-    tau0 = sp[SP_TAU0]
-    cscale = sp[SP_CHI]
-    kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, ux, uy, uz, ex, ey, ez, bx, by, bz,
-                                   dex, dey, dez, dbx, dby, dbz)
     hq = 0.5 * qm * dt_push
     hqc = hq * (1.0 / k.c)
-    lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
-                      hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
-    kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, lx + kax, ly + kay, lz + kaz,
-                                   ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
+    tau0 = sp[SP_TAU0]
+    cscale = sp[SP_CHI]
+    if damping == NONE:
+        kax = kay = kaz = kbx = kby = kbz = 0.0
+        lx, ly, lz = push(int(pl[PL_PUSHER]), ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+    else:
+        inv_dtp = 1.0 / dt_prev
+        dex = (ex - s[EPREV]) * inv_dtp
+        dey = (ey - s[EPREV + 1]) * inv_dtp
+        dez = (ez - s[EPREV + 2]) * inv_dtp
+        dbx = (bx - s[BPREV]) * inv_dtp
+        dby = (by - s[BPREV + 1]) * inv_dtp
+        dbz = (bz - s[BPREV + 2]) * inv_dtp
+        half = 0.5 * dt_push
+        kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, g_old, ux, uy, uz, ex, ey, ez, bx, by, bz,
+                                       dex, dey, dez, dbx, dby, dbz)
+        lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
+                          hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+        px = lx + kax
+        py = ly + kay
+        pz = lz + kaz
+        kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, math.sqrt(1.0 + px * px + py * py + pz * pz),
+                                       px, py, pz, ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
     nux = lx + kbx
     nuy = ly + kby
     nuz = lz + kbz
@@ -236,10 +243,12 @@ def advance(sp, pl, s, f, omega):
             saved += 1.0
             if grid:
                 next_save = min(saved * pl[PL_INTERVAL], t_end)
+        if save and not grid:
+            next_save += pl[PL_SAVE]
         if finished:
             status = FINISHED
     if status == RUNNING:
-        step_len = k.c * dt / g_new
+        step_len = k.c * dt * (1.0 / g_new)
         nx = x + nux * step_len
         ny = y + nuy * step_len
         nz = z + nuz * step_len

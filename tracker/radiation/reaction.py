@@ -66,10 +66,11 @@ def ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey
 
 
 @njit(**LEAF)
-def radiation_kick(model, dt, qm, tau0, chi_scale, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
+def radiation_kick(model, dt, qm, tau0, chi_scale, gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
                    dex, dey, dez, dbx, dby, dbz):
     """Change of u = gamma beta over dt (s) from the damping ``model`` at the momentum u.
 
+    ``gamma`` must be sqrt(1 + |u|^2) (the caller often knows it already).
     Evaluates the force at (u, E, B): Landau-Lifshitz, or Landau-Lifshitz scaled by the
     Gaunt factor g(chi) of that state (quantum-corrected, see quantum.py). ``NONE``
     gives zero; an unknown code gives NaN (the particle stops) rather than a silent
@@ -79,7 +80,6 @@ def radiation_kick(model, dt, qm, tau0, chi_scale, ux, uy, uz, ex, ey, ez, fbx, 
         return 0.0, 0.0, 0.0
     if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM:
         return math.nan, math.nan, math.nan
-    gamma = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
     inv_g = 1.0 / gamma
     bx = ux * inv_g
     by = uy * inv_g

@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from . import constants as k
 from . import species as sp
 from .config import DEFAULT_MAX_STEPS
-from .errors import ScenarioError
+from .errors import ScenarioError, brief
 from .fields.base import ABSENT, REQUIRED, Param
 from .pushers import PUSHERS
 from .radiation.reaction import MODELS as RR_MODELS
@@ -78,9 +78,12 @@ class Input(Param):
             return raw
         if self.kind == "integer":
             low = 0 if self.minimum is None else int(self.minimum)
-            if (isinstance(raw, bool) or not isinstance(raw, (int, float)) or not math.isfinite(raw)
-                    or raw != int(raw) or raw < low):
-                raise ScenarioError(key, f"must be a whole number >= {low}, not {raw!r}.")
+            if (isinstance(raw, bool) or not isinstance(raw, (int, float))
+                    or (isinstance(raw, float) and not math.isfinite(raw)) or raw != int(raw) or raw < low):
+                raise ScenarioError(key, f"must be a whole number >= {low}, not {brief(raw)}.")
+            if raw > MAX_COUNT:
+                # a 309-digit integer overflowed the plan; the kernel's float64 plan row holds 2^53 exactly
+                raise ScenarioError(key, f"must be at most 2^53 = {MAX_COUNT:.4g}, not {brief(raw)}.")
             return int(raw)
         if self.kind == "vector":
             value = parse_vector(raw, self.dimension, key)
@@ -112,6 +115,10 @@ class Input(Param):
             raise ScenarioError(key, f"{text}, not {raw!r}.")
         if self.below is not None and not value < self.below:
             raise ScenarioError(key, f"must be below {self.below_text or repr(self.below)}, not {raw!r}.")
+
+
+#: largest whole number accepted for counts (save_every, max_steps, count, ...)
+MAX_COUNT = 2**53
 
 
 def by_name(inputs):

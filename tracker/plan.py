@@ -75,6 +75,11 @@ def memory_estimate(scenario, steps, saved):
     partials = ((n + 63) // 64) * chunk_states * NSTAT * 8
     kept = saved * BYTES_PER_SAVED_STATISTICS + snaps
     return kept, state, kept + state + saved * BYTES_PER_SAVED_STATISTICS + partials
+#: steps per period of the fastest initial time scale below which a plan is refused: at
+#: 4 steps (theta = pi/2 per step) the Boris rotation angle 2 arctan(theta/2) is already
+#: 15 % short, and a laser period sampled fewer than ~2 times is not seen at all (a
+#: 120 fs step across a 25 fs pulse radiated nothing). Common practice, no source.
+MIN_PLAN_STEPS_PER_PERIOD = 4.0
 
 
 @dataclass(frozen=True)
@@ -103,13 +108,16 @@ class RunPlan:
     dt_max: float = 0.0
     state_bytes: int = 0
     peak_bytes: int = 0
+    warnings: tuple = ()  #: validity-style records (kind, message, time s) the run carries
 
 
 def human_bytes(n):
     """'1.2 GiB' style size."""
     for unit in ("B", "KiB", "MiB", "GiB", "TiB"):
         if n < 1024 or unit == "TiB":
-            return f"{n:.1f} {unit}" if unit != "B" else f"{n} B"
+            if unit == "B":
+                return f"{n:.0f} B"
+            return f"{n:.1f} {unit}" if n < 1e6 else f"{n:.3g} {unit}"
         n /= 1024.0
 
 
@@ -162,7 +170,17 @@ def make_plan(scenario):
     if not (math.isfinite(dt_wanted) and dt_wanted > 0):
         raise ScenarioError("run.steps_per_period", f"the fastest time scale at the start ({source}) is "
                                                     f"{period!r} s: no usable step; give run.dt instead.")
-    steps = max(1, math.ceil(run.duration / dt_wanted * (1.0 - 1e-12)))
+    steps_wanted = run.duration / dt_wanted
+    if not (math.isfinite(steps_wanted) and steps_wanted <= run.max_steps):
+        # counted in floating point: a step of 1e-320 s must not overflow the integer count
+        memory = (steps_wanted / run.save_every + 1.0) * BYTES_PER_SAVED_STATE * scenario.particle_count
+        raise ScenarioError(
+            "run.max_steps",
+            f"the plan needs {steps_wanted:.4g} steps (dt = {dt_wanted:.4g} s over {run.duration:.4g} s), more "
+            f"than max_steps = {run.max_steps:,}; it would keep {human_bytes(memory)} of states. Raise "
+            "run.max_steps, shorten run.duration or give a coarser resolution.",
+        )
+    steps = max(1, math.ceil(steps_wanted * (1.0 - 1e-12)))
     dt = run.duration / steps
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
     kept, state, peak = memory_estimate(scenario, steps, saved)
@@ -180,8 +198,9 @@ def make_plan(scenario):
     refuse_if_too_large(scenario, saved, memory, peak)
     sizes = dict(state_bytes=state, peak_bytes=peak)
     if not run.adaptive:
-        return RunPlan(dt, steps, run.save_every, saved, memory, period, source, period / dt if period else None,
-                       **sizes)
+        spp = period / dt if period else None
+        return RunPlan(dt, steps, run.save_every, saved, memory, period, source, spp,
+                       warnings=resolution_notes(run, spp, source), **sizes)
     if period is None:
         raise ScenarioError("run.adaptive", "needs a magnetic field or laser at the start to set the first step.")
     # defaults (common practice, no source): three decades either side of the first step
@@ -189,7 +208,7 @@ def make_plan(scenario):
     dt_max = run.dt_max if run.dt_max is not None else min(dt_wanted * ADAPTIVE_RANGE_DEFAULT, run.duration)
     dt0 = min(max(dt_wanted, dt_min), dt_max)
     return RunPlan(dt0, steps, run.save_every, saved, memory, period, source, period / dt0, True, dt_min, dt_max,
-                   **sizes)
+                   warnings=resolution_notes(run, period / dt0, source), **sizes)
 
 
 def refuse_if_too_large(scenario, saved, memory, peak):
@@ -210,3 +229,28 @@ def refuse_if_too_large(scenario, saved, memory, peak):
               "run.save_every")
     raise ScenarioError("beam.count", f"the plan does not fit in memory with beam.count = {scenario.particle_count:,} "
                                       f"and run.save = {save!r}: {need}. Advice: {advice}.")
+
+
+def resolution_notes(run, steps_per_period, source):
+    """Warnings of a plan whose step under-resolves the fastest initial time scale.
+
+    Refuses (ScenarioError) below ``MIN_PLAN_STEPS_PER_PERIOD``; returns a tuple with one
+    "resolution" record below ``validity.MIN_STEPS_PER_PERIOD`` (the bound the run's
+    checks use), else an empty tuple.
+    """
+    from .validity import MIN_STEPS_PER_PERIOD, warning
+
+    if steps_per_period is None or steps_per_period >= MIN_STEPS_PER_PERIOD:
+        return ()
+    key = "run.dt" if run.dt is not None else "run.steps_per_period"
+    need = math.ceil(MIN_STEPS_PER_PERIOD)
+    if run.dt is not None:
+        advice = f"lower run.dt to <= {run.dt * steps_per_period / MIN_STEPS_PER_PERIOD:.3g} s"
+    else:
+        advice = f"raise run.steps_per_period to >= {need}"
+    text = (f"the step resolves the {source} with only {steps_per_period:.3g} steps per period "
+            f"(at least {MIN_STEPS_PER_PERIOD:.0f} keep the phase error below 1 % per period)")
+    if steps_per_period < MIN_PLAN_STEPS_PER_PERIOD:
+        raise ScenarioError(key, f"{text}; below {MIN_PLAN_STEPS_PER_PERIOD:.0f} the orbit and its radiation are "
+                                 f"meaningless. Advice: {advice}.")
+    return (warning("resolution", f"planned {text}. Advice: {advice}.", 0.0),)

@@ -20,7 +20,6 @@ field registry. The text a user typed with units is kept beside the SI value
 
 import dataclasses
 import math
-import tomllib
 from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
@@ -31,10 +30,11 @@ from . import constants as k
 from . import species as sp
 from . import inputs
 from .config import DATA_OFFSET_SLOT, DEFAULT_MAX_STEPS, FIELD_PARAMS
-from .errors import ScenarioError
+from .errors import ScenarioError, brief
 from .fields import MODELS as FIELD_MODELS
 from .fields.base import ABSENT, REQUIRED, unit_vector
 from .inputs import SPECIES_NAMES  # noqa: F401  (re-exported: the lab reads it from here)
+from .units import parse_scalar
 
 MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed", "momentum", "u")
 SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
@@ -86,13 +86,15 @@ class ParticleSpec:
         mc = self.mass * k.c
         if key == "u":
             return np.array(value, dtype=float)
-        if key == "momentum":
+        if key == "momentum" and isinstance(value, tuple):
             return np.array(value, dtype=float) / mc
         if key == "gamma":
             magnitude = math.sqrt(value * value - 1.0)
         elif key == "kinetic_energy":
             g = 1.0 + value / (self.mass * k.c**2)
             magnitude = math.sqrt(g * g - 1.0)
+        elif key == "momentum":  # a scalar |p| with a direction
+            magnitude = value / mc
         else:  # speed
             beta = value / k.c
             magnitude = beta / math.sqrt(1.0 - beta * beta)
@@ -214,6 +216,9 @@ class Scenario:
             sweep=_parse_sweep(data),
             base_dir=base_dir,
         )
+        from .plausibility import check_plausible
+
+        check_plausible(scenario, data)
         if beam is not None:
             scenario.initial_particles()  # sampling limits (gamma >= 1) belong to validation
         scenario.plan()  # resolution and size checks belong to validation
@@ -223,12 +228,11 @@ class Scenario:
 
     @classmethod
     def from_toml(cls, text, base_dir=None):
-        """Parse TOML text; syntax errors become ScenarioError. ``base_dir`` as in ``from_dict``."""
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise ScenarioError("", f"not valid TOML: {exc}") from None
-        return cls.from_dict(data, base_dir=base_dir)
+        """Parse TOML text; syntax errors, absurd nesting and size become ScenarioError.
+        ``base_dir`` as in ``from_dict``."""
+        from .plausibility import toml_table
+
+        return cls.from_dict(toml_table(text), base_dir=base_dir)
 
     def to_dict(self, as_entered=False):
         """Plain nested dict in SI; ``from_dict(to_dict())`` gives the same physics.
@@ -349,13 +353,22 @@ class Scenario:
                    if f.model.data_bytes is not None)
 
     def fields_at(self, x, t):
-        """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and one time t in s.
+        """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
 
+        ``t`` is one time for all positions or one time per position (shape (n,)).
         Uses the same compiled evaluator as the pusher.
         """
         from .fields.evaluate import evaluate
+        from .plausibility import times_for_points
 
-        return evaluate(*self.field_table, x, t)
+        points, times = times_for_points(x, t)
+        if times is None:
+            return evaluate(*self.field_table, points, t if np.ndim(t) == 0 else float(np.asarray(t).ravel()[0]))
+        e, b = np.empty_like(points), np.empty_like(points)
+        for when in np.unique(times):
+            at = times == when
+            e[at], b[at] = evaluate(*self.field_table, points[at], float(when))
+        return e, b
 
     def plan(self):
         """The run plan (dt, steps, saved states, memory); raises ScenarioError if too large."""
@@ -368,11 +381,9 @@ def load_scenario(path):
     """Read and validate a scenario TOML file (path to a .toml file); relative file names
     inside it are resolved against the file's folder."""
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ScenarioError("", f"cannot read scenario file {str(path)!r}: {exc.strerror}.") from None
-    return Scenario.from_toml(text, base_dir=path.resolve().parent)
+    from .plausibility import read_scenario_text
+
+    return Scenario.from_toml(read_scenario_text(path), base_dir=path.resolve().parent)
 
 
 # ---------------------------------------------------------------------- parsing helpers
@@ -406,8 +417,8 @@ def _merge(data, section, changes):
 
 
 def _choice(value, choices, key):
-    if value not in choices:
-        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {value!r}.")
+    if not isinstance(value, str) or value not in choices:
+        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {brief(value)}.")
     return value
 
 
@@ -484,9 +495,15 @@ def _parse_particle(raw, section="particle"):
             f"give exactly one of {', '.join(MOMENTUM_KEYS)}" + (f", not {', '.join(given)}." if given else "."),
         )
     key = given[0]
-    value = inputs.PARTICLE[key].parse(raw[key], f"{section}.{key}")
+    scalar_momentum = key == "momentum" and not isinstance(raw[key], (list, tuple))
+    if scalar_momentum:   # |p| with a direction, like the other scalar momentum keys
+        value = parse_scalar(raw[key], "momentum", f"{section}.{key}")
+        if not value >= 0.0:
+            raise ScenarioError(f"{section}.{key}", f"must not be negative, not {brief(raw[key])}.")
+    else:
+        value = inputs.PARTICLE[key].parse(raw[key], f"{section}.{key}")
     direction = None
-    if key in SCALAR_MOMENTUM_KEYS:
+    if key in SCALAR_MOMENTUM_KEYS or scalar_momentum:
         if "direction" not in raw:
             raise ScenarioError(f"{section}.direction",
                                 f"is required with {key} (a vector; it is normalised for you).")
@@ -623,9 +640,10 @@ def _parse_field(raw, index, base_dir=None):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
-    model = FIELD_MODELS.get(raw["type"])
+    model = FIELD_MODELS.get(raw["type"]) if isinstance(raw["type"], str) else None
     if model is None:
-        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, not {raw['type']!r}.")
+        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, "
+                                           f"not {brief(raw['type'])}.")
     allowed = ("type",) + tuple(p.name for p in model.params)
     _reject_unknown(raw, allowed, key)
     values = []

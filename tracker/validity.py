@@ -23,6 +23,17 @@ domain
     undulator mid-plane, large-aspect-ratio tokamak, far field of a dipole).
 nonfinite
     The run stopped on a NaN or Inf; the last good state is kept.
+energy-balance
+    Delta KE - (field work - radiated energy) exceeds ``ENERGY_BALANCE_LIMIT`` of the
+    largest energy in the balance: the integration is wrong, not merely inexact. Such a
+    result is not complete (``Result.complete`` is False; the CLI exits 3).
+precision
+    The damped run radiated less than double precision can resolve in gamma: the orbit
+    cannot show the damping, although the radiated energy is still computed correctly.
+
+The plan's own warnings (``RunPlan.warnings``: the step against the fastest initial time
+scale, from the same resolution the plan chose) are carried by every run whose saved
+states did not already show the under-resolution.
 
 Checks see only the saved states (``run.save_every``): an excursion between two
 saved states goes unnoticed. Fields are recomputed at the saved states with the
@@ -52,8 +63,8 @@ MAX_PHASE_ERROR = 0.01
 #: steps per period below which "resolution" is raised: 2 pi/sqrt(12 MAX_PHASE_ERROR) ~ 18.
 MIN_STEPS_PER_PERIOD = 2.0 * math.pi / math.sqrt(12.0 * MAX_PHASE_ERROR)
 #: largest energy fraction radiation reaction may remove in one step: the damping is
-#: split from the Lorentz push, which needs a small change per step (physics-reference
-#: sec. 3 requirements; common practice, no source).
+#: split from the Lorentz push, which needs a small change per step (common practice,
+#: no source).
 MAX_LOSS_PER_STEP = 0.01
 #: chi above which quantum emission matters: g(0.1) = 0.65, and emission is
 #: stochastic (Ridgers et al. 2017; Niel et al. 2018; common practice).
@@ -70,8 +81,9 @@ LOSS_PER_PERIOD_DOMINATED = 1.0
 #: a laser counts as present where its field exceeds this fraction of its peak.
 LASER_PRESENT = 1e-2
 
-#: paraxial mirror: largest r/L. The vacuum field differs by B0 r^2/(2 L^2)
-#: (physics-reference sec. 10), 0.5 % of B0 at r/L = 0.1.
+#: paraxial mirror: largest r/L. The next order of the paraxial expansion of a vacuum
+#: field with Bz(0, z) = B0 (1 + z^2/L^2) adds -B0 r^2/(2 L^2) to Bz [derived from
+#: div B = 0 and curl B = 0 to second order in r], 0.5 % of B0 at r/L = 0.1.
 MIRROR_MAX_R_OVER_L = 0.1
 #: undulator: largest |k y|; cosh(k y) - 1 = 10 % there (common practice, no source).
 UNDULATOR_MAX_KY = math.acosh(1.1)
@@ -83,11 +95,45 @@ TOKAMAK_MAX_EPSILON = 1.0 / 3.0
 #: unknown size; common practice, no source).
 DIPOLE_MIN_FRACTION = 0.1
 
+#: energy-balance residual (relative to the largest energy in the balance) above which a
+#: run is flagged and not complete. Runs that resolve their time scales close the balance
+#: to 1e-6 or better (bundled scenarios: tests/test_trust_run.py); 1 % means the step or the
+#: damping went wrong (common practice, no source).
+ENERGY_BALANCE_LIMIT = 1e-2
+#: smallest radiated fraction of the energy the orbit can show: each step rounds gamma
+#: with a relative error ~ eps = 2.2e-16 and the errors add like a random walk, ~ sqrt(N)
+#: eps after N steps [derived]; the damping must exceed that by ``PRECISION_MARGIN`` to be
+#: seen, and never less than ``PRECISION_FLOOR`` = 1e4 eps ~ 2e-12 (common practice, no
+#: source; on the bundled radiation-belt scenario gamma rose by 1.5e-14 while 2e-13 of
+#: the energy was radiated).
+PRECISION_FLOOR = 1e4 * float(np.finfo(float).eps)
+PRECISION_MARGIN = 10.0
+#: warning kinds after which a result is not complete (see ``Result.complete``).
+FAILING_KINDS = ("energy-balance",)
 
 
 def warning(kind, message, time):
     """One warning record: kind (str), message (str), time (s, float)."""
     return {"kind": kind, "message": message, "time": float(time)}
+
+
+def format_count(x):
+    """A step count or steps-per-period for a message: a whole number when it is one a
+    person would type, else 3 significant digits (never a 70-digit integer)."""
+    if not math.isfinite(x):
+        return str(x)
+    if abs(x) < 1e6:
+        return f"{math.ceil(x):d}"
+    return f"{x:.3g}"
+
+
+def format_fraction(x):
+    """A fraction as a percentage up to 1000 %, beyond that as 'N times'."""
+    if not math.isfinite(x):
+        return str(x)
+    if abs(x) <= 10.0:
+        return f"{x:.2%}"
+    return f"{x:.3g} times"
 
 
 def laser_rows(scenario):
@@ -143,14 +189,71 @@ def check_result(result):
     found = check_nonfinite(result) + check_outside(result) + field_advice(result.scenario)
     good = _finite_states(result)
     if not np.any(good):
-        return found
+        return found + plan_warnings(result, [])
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         rates = rates_along(result)
-        found += check_resolution(result, rates, good)
+        resolution = check_resolution(result, rates, good)
+        found += plan_warnings(result, resolution) + resolution
+        found += check_energy_balance(result)
+        found += check_precision(result)
         found += check_quantum(result, good)
         found += check_radiation_dominated(result, rates, good)
         found += check_domain(result, good)
     return found
+
+
+def plan_warnings(result, resolution):
+    """The plan's warnings (step against the fastest initial time scale), unless the
+    saved states already showed an under-resolved period (a more precise warning)."""
+    if any("steps per period" in w["message"] for w in resolution):
+        return []
+    try:
+        plan = result.scenario.plan()
+    except ValueError:
+        return []
+    return [dict(w) for w in getattr(plan, "warnings", ())]
+
+
+def check_energy_balance(result):
+    """'energy-balance': Delta KE - (field work - radiated) above ``ENERGY_BALANCE_LIMIT``."""
+    residual = result.energy_balance_residual()
+    if not (math.isfinite(residual) and abs(residual) <= ENERGY_BALANCE_LIMIT):
+        ke = result.kinetic_energy
+        return [warning(
+            "energy-balance",
+            f"the energy balance fails: the kinetic energy changed by {_joules(ke[-1] - ke[0])} while the "
+            f"fields did {_joules(result.field_work[-1])} of work and {_joules(result.radiated_energy[-1])} "
+            f"was radiated (residual {residual:.3g} of the largest energy, limit {ENERGY_BALANCE_LIMIT:g}). "
+            "The integration is wrong, typically a step far too coarse for the radiation-reaction kick: "
+            "the result is marked not complete. Advice: refine the step (run.steps_per_period, run.dt or "
+            "run.dt_max) until the residual is small.",
+            result.t[-1])]
+    return []
+
+
+def _joules(value):
+    from .plausibility import format_ev
+
+    return format_ev(value / k.e, 4)
+
+
+def check_precision(result):
+    """'precision': a damped run whose radiated fraction is below what gamma can resolve."""
+    if result.scenario.run.radiation_reaction == "none" or len(result.t) < 2:
+        return []
+    energy = float(result.gamma[0]) * result.rest_energy
+    radiated = float(result.radiated_energy[-1])
+    steps = max(1, int(result.meta.get("steps", len(result.t))))
+    floor = max(PRECISION_FLOOR, PRECISION_MARGIN * math.sqrt(steps) * float(np.finfo(float).eps))
+    if not (energy > 0 and 0.0 < radiated < floor * energy):
+        return []
+    return [warning(
+        "precision",
+        f"the particle radiates only {radiated / energy:.3g} of its energy, below what double precision "
+        f"resolves in gamma after {steps:,} steps (~{floor:.1g}): the orbit and gamma(t) cannot show the "
+        "damping (round-off dominates their change), but the radiated energy and power are computed "
+        "correctly. Compare radiated energies, not orbits, at this level.",
+        result.t[-1])]
 
 
 def _finite_states(result):
@@ -209,26 +312,26 @@ def _advice_for_step(result, factor, dt_bound=None, dt_used=None):
     its floor needs a lower ``run.dt_min`` rather than more steps per period.
     """
     run = result.scenario.run
-    meta = result.meta
-    spp = meta.get("steps_per_period") or run.steps_per_period
+    plan = result.scenario.plan()   # the resolution the run used, from the plan itself
+    spp = plan.steps_per_period
     if dt_bound is not None:
         if run.adaptive:
             return (f"set run.dt_max <= {dt_bound:.3g} s (the adaptive step follows the orbit's time scales, "
                     "not the cooling)")
-        if run.dt is None and spp and meta.get("dt"):
+        if run.dt is None and spp:
             return (f"use a step <= {dt_bound:.3g} s: raise run.steps_per_period to >= "
-                    f"{math.ceil(spp * meta['dt'] / dt_bound)} (now {spp:.3g})")
+                    f"{format_count(spp * plan.dt / dt_bound)} (now {spp:.3g})")
         return f"set run.dt <= {dt_bound:.3g} s"
     if run.adaptive:
-        floor = result.scenario.plan().dt_min
+        floor = plan.dt_min
         if dt_used is not None and dt_used <= floor * (1.0 + 1e-9):
             return (f"the step sat at its floor run.dt_min = {floor:.3g} s; lower dt_min to <= "
                     f"{floor / factor:.3g} s")
-        return f"raise run.steps_per_period to >= {math.ceil(spp * factor) if spp else 'more'}"
+        return f"raise run.steps_per_period to >= {format_count(spp * factor) if spp else 'more'}"
     if run.dt is not None:
         return (f"lower run.dt to <= {run.dt / factor:.3g} s, or set run.adaptive = true so that the step "
                 "follows the local time scale")
-    target = math.ceil(spp * factor) if spp else None
+    target = format_count(spp * factor) if spp else "more"
     return (f"raise run.steps_per_period to >= {target} (now {spp:.3g}), or set run.adaptive = true so that "
             "the step follows the local time scale as it changes")
 
@@ -247,12 +350,14 @@ def check_resolution(result, rates, good):
             below = np.count_nonzero(spp < MIN_STEPS_PER_PERIOD) / np.count_nonzero(usable)
             first = int(np.argmax(spp < MIN_STEPS_PER_PERIOD))
             factor = MIN_STEPS_PER_PERIOD / spp[worst]
+            damped = result.scenario.run.radiation_reaction != "none"
+            consequence = "and the damping is misplaced" if damped else "and the orbit drifts out of phase"
             found.append(warning(
                 "resolution",
                 f"the {describe(int(source[worst]), result.scenario.fields)} is resolved by only {spp[worst]:.3g} steps per period at "
                 f"t = {result.t[worst]:.4g} s (worst; {below:.0%} of saved states are below "
                 f"{MIN_STEPS_PER_PERIOD:.0f}, first at t = {result.t[first]:.4g} s). The phase error then exceeds "
-                f"{MAX_PHASE_ERROR:.0%} per period and the damping is misplaced. Advice: "
+                f"{MAX_PHASE_ERROR:.0%} per period {consequence}. Advice: "
                 + _advice_for_step(result, factor, dt_used=dt[worst]) + ".",
                 result.t[worst]))
     if result.scenario.run.radiation_reaction != "none":
@@ -270,7 +375,7 @@ def check_resolution(result, rates, good):
             bound = MAX_LOSS_PER_STEP * energy[worst] / result.power[worst]
             found.append(warning(
                 "resolution",
-                f"radiation reaction removes {loss[worst]:.2%} of the particle's energy in one step at "
+                f"radiation reaction removes {format_fraction(loss[worst])} of the particle's energy in one step at "
                 f"t = {result.t[worst]:.4g} s (limit {MAX_LOSS_PER_STEP:.0%}); the damping is applied as a "
                 "split kick and needs a small change per step. Advice: "
                 + _advice_for_step(result, 1.0, dt_bound=bound) + ".",

@@ -194,6 +194,46 @@ def websocket_origins(address, port):
     return sorted(f"{h}:{port}" for h in hosts if h)
 
 
+def port_problem(address, port):
+    """'' when ``address:port`` can be bound, else one line saying why (checked before serving,
+    so that a busy port gives one clear error instead of a traceback after "serving on")."""
+    import errno
+    import socket
+
+    if not 0 < int(port) < 65536:
+        return f"--port {port} is not a TCP port (1-65535)"
+    try:
+        infos = socket.getaddrinfo(address or None, port, type=socket.SOCK_STREAM, flags=socket.AI_PASSIVE)
+    except socket.gaierror as exc:
+        return f"--address {address!r} cannot be resolved ({exc.strerror})"
+    family, kind, proto, _, where = infos[0]
+    with socket.socket(family, kind, proto) as probe:
+        # the server sets SO_REUSEADDR too: a port left in TIME_WAIT is not "in use"
+        probe.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
+        try:
+            probe.bind(where)
+        except OSError as exc:
+            if exc.errno == errno.EADDRINUSE:
+                return (f"port {port} on {address} is already in use (another lab or server?); "
+                        "choose another with --port")
+            return f"cannot listen on {address}:{port} ({exc.strerror})"
+    return ""
+
+
+def browser_problem():
+    """'' when a browser can be opened from here, else why not (``--show``)."""
+    import os
+    import webbrowser
+
+    if sys.platform.startswith("linux") and not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")):
+        return "no display: DISPLAY and WAYLAND_DISPLAY are unset"
+    try:
+        webbrowser.get()
+    except webbrowser.Error:
+        return "no browser found"
+    return ""
+
+
 def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False):
     """Serve the lab until interrupted (the ``radorbit lab`` command).
 
@@ -211,6 +251,15 @@ def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False):
         print(f"radorbit: error: cannot read scenario file {str(scenario_path)!r}", file=sys.stderr)
         return 2
     url = f"http://{'127.0.0.1' if address in ('0.0.0.0', '::') else address}:{port}/"
+    problem = port_problem(address, port)
+    if problem:
+        print(f"radorbit: error: {problem}", file=sys.stderr)
+        return 1
+    if show:
+        problem = browser_problem()
+        if problem:
+            print(f"radorbit lab: cannot open a browser ({problem}); open {url} yourself", file=sys.stderr)
+            show = False
     print(f"radorbit lab: serving on {url} (Ctrl-C stops)", flush=True)
     pn.serve(lambda: create_app(scenario_path), port=port, address=address, show=show, title=TITLE,
              websocket_origin=websocket_origins(address, port), verbose=False, threaded=False)

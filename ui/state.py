@@ -7,7 +7,6 @@ which is the only judge of validity. Views watch the parameters.
 """
 
 import copy
-import tomllib
 
 import param
 
@@ -132,10 +131,12 @@ class LabState(param.Parameterized):
         bool
             True when loaded (the draft may still be invalid: see ``error``).
         """
+        from tracker.plausibility import toml_table
+
         try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            self.source_error = f"{source or 'the file'}: not valid TOML: {exc}"
+            data = toml_table(text)   # syntax errors, absurd nesting and size: one line each
+        except ScenarioError as exc:
+            self.source_error = f"{source or 'the file'}: {exc}"
             return False
         self.base_dir = None if base_dir is None else str(base_dir)
         return self.load_dict(data, source)

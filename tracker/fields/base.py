@@ -132,11 +132,21 @@ def parse_any_quantity(value, key):
     return number
 
 
+#: lengths a direction may have: their squares stay normal doubles (1e-300 .. 1e300)
+UNIT_VECTOR_NORMS = (1e-150, 1e150)
+
+
 def unit_vector(vec, key):
     """Normalise a 3-vector, refusing a zero or near-zero one."""
     norm = math.sqrt(sum(v * v for v in vec))
     if not norm > 0:
         raise ScenarioError(key, f"must be a non-zero vector, not {list(vec)!r}.")
+    if not UNIT_VECTOR_NORMS[0] <= norm <= UNIT_VECTOR_NORMS[1]:
+        # the squares overflow to inf (or lose their digits below 1e-150): the vector would
+        # normalise to zero or to garbage and silently start a particle at rest
+        raise ScenarioError(key, f"has a length of {math.hypot(*vec):.3g}, outside what can be normalised "
+                                 f"({UNIT_VECTOR_NORMS[0]:.0e} .. {UNIT_VECTOR_NORMS[1]:.0e}); give components "
+                                 f"of order 1, not {list(vec)!r}.")
     if abs(norm - 1.0) < 4e-16:
         return tuple(float(v) for v in vec)  # already unit: keep it bit-exact (TOML round trip)
     return tuple(v / norm for v in vec)

@@ -54,7 +54,7 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 
 # finufft and numba's OpenMP layer spin-wait by default; on a busy two-core
-# machine that costs 5-100x (PERFORMANCE.md). Must be set before OpenMP starts.
+# machine that costs 5-100x (measured with benchmarks/bench_spectrum.py). Must be set before OpenMP starts.
 os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
 
 import numpy as np  # noqa: E402

@@ -264,7 +264,7 @@ def advance(sp, pl, s, f, omega):
         if finished:
             status = FINISHED
     if status == RUNNING:
-        step_len = k.c * dt * (1.0 / g_new)
+        step_len = k.c * dt / g_new
         nx = x + nux * step_len
         ny = y + nuy * step_len
         nz = z + nuz * step_len

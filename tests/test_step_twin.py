@@ -63,7 +63,11 @@ def test_compiled_step_matches_the_numpy_twin(pusher, model):
     assert power == pytest.approx(p_ref, rel=1e-8)
     assert chi == pytest.approx(chi_ref, rel=1e-8)
     assert s_new[RAD] == 0.0    # the first step only opens the trapezoid
-    if model != "none":         # the damping did act: the undamped twin differs well beyond the tolerance
+    from tracker.radiation.stochastic import CHI_STOCHASTIC_MIN
+    assert twin_step.CHI_STOCHASTIC_MIN == CHI_STOCHASTIC_MIN
+    # the damping did act (the undamped twin differs well beyond the tolerance), except for the stochastic
+    # model above its threshold, whose photons the kernels sample after the step (tests/test_stochastic_engine.py)
+    if model != "none" and not (model == "quantum-stochastic" and chi >= twin_step.CHI_STOCHASTIC_MIN):
         u_free = twin_step.step(-sc.e, sc.m_e, pusher, "none", np.array(s[X:X + 3]), np.array(s[U:U + 3]),
                                 np.array(E_FIELD), np.array(B_FIELD), state[EPREV:EPREV + 3, 0],
                                 state[BPREV:BPREV + 3, 0], bundle.plan.dt)[0]

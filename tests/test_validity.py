@@ -101,9 +101,19 @@ def test_quantum_warning_above_chi_one_tenth(model, phrase):
     # gamma0 = 1000, a0 = 50 head-on: chi0 = 0.303 (gamma (1 - n.beta) E0/E_S, computed with scipy constants)
     r = track(head_on(1000.0, 50.0, model=model))
     (w,) = [w for w in r.warnings if w["kind"] == "quantum"]
-    assert phrase in w["message"] and "does not provide" in w["message"] and "stochastic" in w["message"]
+    assert phrase in w["message"] and 'radiation_reaction = "quantum-stochastic"' in w["message"]
+    assert "pairs" not in w["message"]               # chi < 1
     assert r.chi.max() > 0.1
     assert "radiation-dominated" not in kinds(r)     # R_c = 0.11
+
+
+def test_stochastic_model_warns_only_about_pair_creation():
+    # below chi = 1 the stochastic model is the right one: no quantum warning
+    assert "quantum" not in kinds(track(head_on(1000.0, 50.0, model="quantum-stochastic")))
+    # gamma0 = 4000, a0 = 200: chi0 = 4.9 > CHI_PAIRS (nonlinear Breit-Wheeler, Di Piazza et al. 2012, from memory)
+    r = track(head_on(4000.0, 200.0, model="quantum-stochastic"))
+    (w,) = [w for w in r.warnings if w["kind"] == "quantum"]
+    assert "pair creation is not modelled" in w["message"]
 
 
 # ---------------------------------------------------------------------- radiation-dominated

@@ -1,4 +1,4 @@
-"""The ``radorbit`` command: run, check, lab, spectrum. Thin wrappers over the Python API."""
+"""The ``radorbit`` command: run, check, fieldmap, lab, spectrum, sweep. Thin wrappers over the Python API."""
 
 import argparse
 import sys
@@ -252,6 +252,12 @@ def cmd_run(args):
     scenario = _with_overrides(load_scenario(args.scenario), args)
     if args.output:
         output_format(args.output)   # refuse an unknown extension before the run, not after it
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import run_beam
+
+        return run_beam(args, scenario)
+    if getattr(args, "snapshots", None):
+        raise ScenarioError("--snapshots", "needs a [beam] scenario (one particle has no snapshots).")
     plan = scenario.plan()
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
@@ -308,6 +314,10 @@ def cmd_check(args):
     from .plan import human_bytes
 
     scenario = _with_overrides(load_scenario(args.scenario), args)
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import check_beam
+
+        return check_beam(args, scenario)
     plan = scenario.plan()
     p = scenario.particle
     rows = [
@@ -329,7 +339,28 @@ def cmd_check(args):
     if regime_rows is not None:
         rows += [list(r) for r in regime_rows(scenario)]
     print_table(["check", "value"], rows)
+    from .validity import field_advice
+
+    for w in field_advice(scenario):
+        print(f"warning ({w['kind']}): {w['message']}")
     print("scenario is valid")
+    return 0
+
+
+def cmd_fieldmap(args):
+    from . import load_scenario
+    from .fieldmap_export import export_field_map
+    from .units import parse_scalar
+
+    scenario = load_scenario(args.scenario)
+    t = parse_scalar(args.time, "time", "--time")
+    frequency = parse_scalar(args.frequency, "frequency", "--frequency")
+    bar, update = _progress_bar(f"sampling {Path(args.scenario).stem}")
+    try:
+        path, geometry, shape = export_field_map(scenario, args.grid, Path(args.output), t, frequency, update)
+    finally:
+        bar.close()
+    print(f"wrote {path} ({geometry} map, {' x '.join(map(str, shape))} nodes, t = {t:g} s)")
     return 0
 
 
@@ -361,6 +392,8 @@ def build_parser():
     run.add_argument("scenario", help="scenario TOML file")
     run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
     run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    run.add_argument("--snapshots", metavar="OUT.h5",
+                     help="beam: write the run.snapshots dumps as openPMD (loads back as a [beam] file)")
     add_run_overrides(run)
     run.set_defaults(func=cmd_run)
 
@@ -368,6 +401,16 @@ def build_parser():
     check.add_argument("scenario", help="scenario TOML file")
     add_run_overrides(check)
     check.set_defaults(func=cmd_check)
+
+    fmap = sub.add_parser("fieldmap", help="sample a scenario's fields on a grid and write a field map")
+    fmap.add_argument("scenario", help="scenario TOML file")
+    fmap.add_argument("--grid", nargs="+", required=True, metavar="AXIS=LOW:HIGH:N",
+                      help="x=.. y=.. z=.. (Cartesian) or r=.. z=.. (axisymmetric, axis z); e.g. x=-1cm:1cm:21")
+    fmap.add_argument("--time", default="0 s", help="time at which to sample (default 0 s)")
+    fmap.add_argument("--frequency", default="0 Hz",
+                      help="write a time-harmonic map of this frequency (adds the quadrature part)")
+    fmap.add_argument("-o", "--output", required=True, help="map file to write (.h5, or .csv)")
+    fmap.set_defaults(func=cmd_fieldmap)
 
     lab = sub.add_parser("lab", help="open the browser lab")
     lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")
@@ -386,6 +429,10 @@ def build_parser():
                           help="auto (default) chooses by the orbit and prints why")
     spectrum.add_argument("-o", "--output", help="write the table (.h5 or .csv)")
     spectrum.set_defaults(func=cmd_spectrum)
+
+    from .scan.cli import add_parser as add_sweep_parser
+
+    add_sweep_parser(sub)
     return parser
 
 

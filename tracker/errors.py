@@ -36,3 +36,4 @@ class ScenarioError(ValueError):
         self.key = one_line(key, 120)
         self.reason = one_line(message)
         super().__init__(one_line(f"{self.key}: {self.reason}" if self.key else self.reason))
+        self.message = self.reason

@@ -148,6 +148,10 @@ RUN_INPUTS = (
               "(memory independent of the particle count)"),
     Input("snapshots", "list", "time", (), minimum=0.0, label="snapshots",
           doc="times of full particle dumps (positions, momenta, weights), within the duration"),
+    Input("seed", "integer", ABSENT, minimum=0, label="emission seed",
+          doc="random-number seed of the quantum-stochastic model (0 when absent; below 2**53)"),
+    Input("photon_min_energy", "scalar", "energy", ABSENT, minimum=0.0, label="photon record threshold",
+          doc="photons of the quantum-stochastic model below this energy are not recorded (0: all)"),
 )
 
 PARTICLE_INPUTS = (

@@ -63,7 +63,7 @@ def pulse_derivative_squared(values, omega):
     + h e2 sin(w s + phase)] with a cos^2 (full length T = duration/0.364) or Gaussian
     amplitude envelope; phi = w s.
     """
-    from .fields.laser import SIN2_FWHM_FRACTION
+    from .fields.envelope import SIN2_FWHM_FRACTION
 
     circular = values["polarization"] == "circular"
     if values["envelope"] == "sin2":
@@ -97,7 +97,7 @@ def _long_pulse_derivative_squared(values, omega, circular):
     |da/dphi|^2 -> g^2 (1/2 linear, 1 circular) up to O(1/(omega T)^2) [derived], so
     Int |a'|^2 dphi = omega Int g^2 ds with Int cos^4(pi s/T) ds = 3T/8 and
     Int exp(-c4 s^2) ds = sqrt(pi/c4); the peak of |a'| is 1."""
-    from .fields.laser import SIN2_FWHM_FRACTION
+    from .fields.envelope import SIN2_FWHM_FRACTION
 
     if values["envelope"] == "sin2":
         g2 = 3.0 / 8.0 * values["duration"] / SIN2_FWHM_FRACTION
@@ -261,8 +261,9 @@ def regime_rows(scenario):
                      f"at the end if P ~ gamma^2 (from {r['gamma0']:.4g})"))
     if r["chi"] > CHI_QUANTUM:
         rows.append(("quantum regime",
-                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: use radiation_reaction = \"landau-lifshitz-quantum\"; "
-                     "stochastic emission is not modelled by this tool"))
+                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: radiation_reaction = \"landau-lifshitz-quantum\" for "
+                     "the mean loss, \"quantum-stochastic\" for the spread and the photons"
+                     + ("; pair creation (chi >= 1) is not modelled" if r["chi"] >= 1.0 else "")))
     name, reason = r["pusher"]
     current = scenario.run.pusher
     rows.append(("recommended pusher", f"{name}" + ("" if name == current else f" (now {current})") + f": {reason}"))

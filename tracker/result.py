@@ -45,6 +45,8 @@ class Result:
     scenario : Scenario
     meta : dict -- steps, wall_time (s), stop_reason, complete, ...
     warnings : list of dict -- kind, message, time (s)
+    photons : PhotonTable or None -- photons recorded by the ``quantum-stochastic`` model
+        (tracker.photons); None for the continuous models
     """
 
     t: np.ndarray
@@ -59,6 +61,7 @@ class Result:
     scenario: object
     meta: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
+    photons: object = None
 
     # ------------------------------------------------------------------ derived
     @property
@@ -154,6 +157,8 @@ class Result:
                 for name, unit in ARRAYS.items():
                     ds = h5.create_dataset(name, data=getattr(self, name))
                     ds.attrs["unit"] = unit
+                if self.photons is not None:
+                    self.photons.to_group(h5.create_group("photons"))
         return path
 
     def to_csv(self, path):
@@ -255,6 +260,11 @@ def load_result(path):
             toml = h5.attrs["scenario_toml"]
             meta = json.loads(h5.attrs["meta_json"])
             warnings = json.loads(h5.attrs["warnings_json"])
+            photons = None
+            if "photons" in h5:
+                from .photons import PhotonTable
+
+                photons = PhotonTable.from_group(h5["photons"])
         except (KeyError, OSError, ValueError, TypeError) as exc:
             raise ScenarioError(where, f"is damaged or incomplete ({exc}).") from None
     arrays = validated_arrays(raw, where)
@@ -263,4 +273,4 @@ def load_result(path):
     scenario = Scenario.from_toml(str(toml))
     if not isinstance(meta, dict) or not isinstance(warnings, list):
         raise ScenarioError(where, "has metadata of the wrong form.")
-    return Result(scenario=scenario, meta=meta, warnings=warnings, **arrays)
+    return Result(scenario=scenario, meta=meta, warnings=warnings, photons=photons, **arrays)

@@ -4,7 +4,8 @@ Files and the Python API share one schema::
 
     title = "optional"
     [run]       duration, dt | steps_per_period, pusher, radiation_reaction, save_every, max_steps,
-                save = "all" | "statistics", snapshots = [times]
+                save = "all" | "statistics", snapshots = [times],
+                seed (stochastic models), photon_min_energy (photon record threshold)
     [particle]  species (+ charge_state, mass_number | mass, charge), position,
                 one of gamma | kinetic_energy | speed | momentum | u, direction
     [beam]      instead of [particle]: the [particle] keys for the centroid, then count, seed,
@@ -41,7 +42,7 @@ SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
 RUN_KEYS = tuple(inputs.RUN)
 PARTICLE_KEYS = tuple(inputs.PARTICLE)
 BEAM_KEYS = tuple(inputs.BEAM)
-TOP_KEYS = ("title", "description", "run", "particle", "beam", "field")
+TOP_KEYS = ("title", "description", "run", "particle", "beam", "field", "sweep")
 
 
 @dataclass(frozen=True)
@@ -60,6 +61,8 @@ class RunSpec:
     dt_max: float | None = None
     save: str = "all"
     snapshots: tuple = ()  #: times (s) of full particle dumps
+    seed: int | None = None                  #: random-number seed of stochastic models (None: 0)
+    photon_min_energy: float | None = None   #: J; photons below it are not recorded (None: 0, all)
 
 
 @dataclass(frozen=True)
@@ -168,6 +171,7 @@ class Scenario:
     description: str = ""
     beam: BeamSpec | None = None
     entered: tuple = ()
+    sweep: object = None  #: tracker.scan.spec.SweepSpec of a [sweep] table (a scan), or None
     base_dir: str | None = field(default=None, compare=False)
 
     # ------------------------------------------------------------------ building
@@ -204,11 +208,12 @@ class Scenario:
         scenario = cls(
             run=run,
             particle=particle,
-            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i) for i, f in enumerate(raw_fields)),
+            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i, base_dir) for i, f in enumerate(raw_fields)),
             title=data.get("title", ""),
             description=data.get("description", ""),
             beam=beam,
             entered=_entered(data),
+            sweep=_parse_sweep(data),
             base_dir=base_dir,
         )
         from .plausibility import check_plausible
@@ -217,6 +222,8 @@ class Scenario:
         if beam is not None:
             scenario.initial_particles()  # sampling limits (gamma >= 1) belong to validation
         scenario.plan()  # resolution and size checks belong to validation
+        if scenario.sweep is not None:
+            scenario.sweep.check_keys(scenario)
         return scenario
 
     @classmethod
@@ -246,12 +253,14 @@ class Scenario:
         else:
             out["beam"] = _beam_dict(self.beam, self.particle)
         out["field"] = [
-            {"type": f.type, **{name: list(v) if isinstance(v, tuple) else v for name, v in f.values}}
+            {"type": f.type, **{name: _raw_value(f.model.param(name), v) for name, v in f.values}}
             for f in self.fields
         ]
         if as_entered:
             for path, raw in self.entered:
                 _put(out, path, _thaw(raw))
+        if self.sweep is not None:
+            out["sweep"] = self.sweep.to_dict()
         return out
 
     def to_toml(self):
@@ -329,10 +338,19 @@ class Scenario:
                 params[i, DATA_OFFSET_SLOT] = float(offset)
                 blocks.append(block)
                 offset += block.size
-        data = np.concatenate(blocks) if blocks else np.zeros(1)
+        if len(blocks) == 1:
+            data = blocks[0]  # one (possibly large) map or program is used as loaded: no copy
+        else:
+            data = np.concatenate(blocks) if blocks else np.zeros(1)
         for a in (kinds, params, data):
             a.setflags(write=False)
         return kinds, params, data
+
+    @property
+    def field_data_bytes(self):
+        """Bytes of the field models' bulk data (maps, formula programs) kept for a run."""
+        return sum(int(f.model.data_bytes(f.params, self.base_dir)) for f in self.fields
+                   if f.model.data_bytes is not None)
 
     def fields_at(self, x, t):
         """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
@@ -369,6 +387,15 @@ def load_scenario(path):
 
 
 # ---------------------------------------------------------------------- parsing helpers
+def _parse_sweep(data):
+    """The optional [sweep] table (tracker.scan.spec); None when absent."""
+    if "sweep" not in data:
+        return None
+    from .scan.spec import parse_sweep_table
+
+    return parse_sweep_table(data["sweep"])
+
+
 def _table(value, key):
     if not isinstance(value, dict):
         raise ScenarioError(key, f"must be a table, not {value!r}.")
@@ -407,6 +434,8 @@ def _parse_run(raw):
     if "dt" in raw and "steps_per_period" in raw:
         raise ScenarioError("run.dt", "give either dt or steps_per_period, not both.")
     run = RunSpec(**_parse_inputs(raw, inputs.RUN, "run"))
+    if run.seed is not None and run.seed >= 2**53:
+        raise ScenarioError("run.seed", f"must be below 2**53 (exact in the kernel's float64 plan row), not {run.seed!r}.")
     if not run.adaptive:
         for key in ("dt_min", "dt_max"):
             if getattr(run, key) is not None:
@@ -600,7 +629,14 @@ def _put(data, path, value):
         data[section][key] = value
 
 
-def _parse_field(raw, index):
+def _raw_value(param, value):
+    """A parsed field value as a scenario file holds it (lists for vectors, a table for tables)."""
+    if param.kind == "table":
+        return dict(value)
+    return list(value) if isinstance(value, tuple) else value
+
+
+def _parse_field(raw, index, base_dir=None):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
@@ -620,4 +656,6 @@ def _parse_field(raw, index):
             values.append((param.name, param.default))
     if model.check is not None:
         model.check(dict(values), key)
+    if model.resolve is not None:
+        model.resolve(dict(values), key, base_dir)
     return FieldSpec(model.name, tuple(values))

@@ -46,6 +46,7 @@ SI_UNITS = {
     "voltage": "V",
     "magnetic_moment": "A*m**2",
     "angle": "rad",
+    "frequency": "Hz",
     "intensity": "W/m**2",
 }
 

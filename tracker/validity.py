@@ -13,7 +13,8 @@ resolution
     ``MAX_LOSS_PER_STEP`` of the energy in one step.
 quantum
     The quantum parameter chi exceeds ``CHI_QUANTUM``: classical emission is
-    wrong and emission is stochastic, which this tool does not model.
+    wrong and emission is stochastic (use ``quantum-stochastic``); at chi above
+    ``CHI_PAIRS`` pair creation by the emitted photons matters, which no model here includes.
 radiation-dominated
     R_c = alpha a0 chi >= 1 in a laser (Di Piazza et al. 2012), or the particle
     radiates more than its energy per period of its motion.
@@ -68,6 +69,9 @@ MAX_LOSS_PER_STEP = 0.01
 #: chi above which quantum emission matters: g(0.1) = 0.65, and emission is
 #: stochastic (Ridgers et al. 2017; Niel et al. 2018; common practice).
 CHI_QUANTUM = 0.1
+#: chi from which the photons' own chi is of order one and pair creation by them (nonlinear
+#: Breit-Wheeler) matters (Di Piazza et al. 2012, from memory; common practice).
+CHI_PAIRS = 1.0
 #: R_c = alpha a0 chi at which radiation reaction dominates (Di Piazza et al. 2012).
 R_C_DOMINATED = 1.0
 #: energy radiated per period of the motion, as a fraction of the energy, at which the
@@ -138,7 +142,7 @@ def laser_rows(scenario):
 
     rows = []
     for i, f in enumerate(scenario.fields):
-        if f.type != "plane-wave":
+        if f.type not in ("plane-wave", "gaussian-beam"):
             continue
         v = f.params
         omega = 2.0 * math.pi * k.c / v["wavelength"]
@@ -182,7 +186,7 @@ def check_result(result):
         ``{"kind": str, "message": str, "time": float (s)}``, kinds "resolution",
         "quantum", "radiation-dominated", "domain", "nonfinite".
     """
-    found = check_nonfinite(result)
+    found = check_nonfinite(result) + check_outside(result) + field_advice(result.scenario)
     good = _finite_states(result)
     if not np.any(good):
         return found + plan_warnings(result, [])
@@ -263,6 +267,29 @@ def _finite_states(result):
     return good
 
 
+def check_outside(result):
+    """'domain' when the run stopped because the particle left a field's domain (e.g. a map's grid)."""
+    from .engine import STOP_LEFT_DOMAIN
+
+    reason = str(result.meta.get("stop_reason", ""))
+    if not reason.startswith(STOP_LEFT_DOMAIN):
+        return []
+    t_last = float(result.t[-1]) if len(result.t) else 0.0
+    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {reason}. Enlarge the map, or choose "
+                              "outside = \"zero\" to continue without its field.", t_last)]
+
+
+def field_advice(scenario):
+    """Warnings the field models give before any run (``FieldModel.advice``), dated t = 0."""
+    found = []
+    for i, f in enumerate(scenario.fields):
+        if f.model.advice is None:
+            continue
+        for kind, message in f.model.advice(f.params, scenario):
+            found.append(warning(kind, f"field[{i}] ({f.model.label}): {message}", 0.0))
+    return found
+
+
 def check_nonfinite(result):
     """'nonfinite' when the engine stopped on NaN or Inf (``meta["stop_reason"]``)."""
     reason = str(result.meta.get("stop_reason", ""))
@@ -337,6 +364,11 @@ def check_resolution(result, rates, good):
         energy = result.gamma * result.rest_energy
         loss = np.zeros(len(dt))
         ok = good & (dt > 0) & (energy > 0)
+        if result.scenario.run.radiation_reaction == "quantum-stochastic":
+            # photons are sampled with sub-steps there, not applied as a split kick
+            from .radiation.stochastic import CHI_STOCHASTIC_MIN
+
+            ok &= result.chi < CHI_STOCHASTIC_MIN
         loss[ok] = result.power[ok] * dt[ok] / energy[ok]
         worst = int(np.argmax(loss))
         if loss[worst] > MAX_LOSS_PER_STEP:
@@ -362,6 +394,14 @@ def check_quantum(result, good):
         return []
     g = gaunt_factor(chi_max)
     model = result.scenario.run.radiation_reaction
+    pairs = (f" At chi >= {CHI_PAIRS:g} the emitted photons themselves have chi of order one and a fraction of "
+             "them would create electron-positron pairs (nonlinear Breit-Wheeler; Di Piazza et al. 2012, from "
+             "memory): pair creation is not modelled, so photon numbers and the energy balance are upper "
+             "bounds there." if chi_max >= CHI_PAIRS else "")
+    if model == "quantum-stochastic":
+        if not pairs:
+            return []
+        return [warning("quantum", f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s." + pairs, result.t[i])]
     if model == "landau-lifshitz-quantum":
         what = (f"the corrected-classical model already scales the emitted power by g(chi) = {g:.3g} there, "
                 "but it keeps emission continuous: it misses the stochastic photon emission that broadens "
@@ -370,12 +410,11 @@ def check_quantum(result, good):
         what = (f"the classical emitted power is {1.0 / g:.3g} times the quantum one there (g(chi) = {g:.3g}); "
                 "use radiation_reaction = \"landau-lifshitz-quantum\" for the mean loss. Emission is also "
                 "stochastic (energy spread, straggling)")
-    pairs = " At chi >~ 1 photons may also turn into pairs (from memory: Di Piazza et al. 2012)." if chi_max >= 1 else ""
     return [warning(
         "quantum",
-        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. A stochastic "
-        "(Monte-Carlo) emission treatment is needed for quantitative results; this tool does not provide "
-        "one." + pairs,
+        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. For the energy "
+        "spread, straggling and the photon spectrum use radiation_reaction = \"quantum-stochastic\" "
+        "(Monte-Carlo photon emission, tracker.radiation.stochastic)." + pairs,
         result.t[i])]
 
 
@@ -443,14 +482,15 @@ def _tokamak_excess(v, x, _x0):
 def _dipole_excess(v, x, x0):
     c = np.asarray(v["center"])
     r = np.linalg.norm(x - c, axis=1)
-    r0 = float(np.linalg.norm(x0 - c))
-    frac = r / r0 if r0 > 0 else np.full(len(r), np.inf)
+    r0 = np.linalg.norm(np.asarray(x0, dtype=float) - c, axis=-1)   # (3,) -> scalar, (n, 3) -> per state
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(r0 > 0, r / np.where(r0 > 0, r0, 1.0), np.inf)
     with np.errstate(divide="ignore"):
         excess = DIPOLE_MIN_FRACTION / frac
     return excess, "distance from the centre / starting distance", frac, DIPOLE_MIN_FRACTION
 
 
-#: field type -> function(values, x (n, 3), x0 (3,)) -> (excess > 1 where outside,
+#: field type -> function(values, x (n, 3), x0 (3,) or (n, 3)) -> (excess > 1 where outside,
 #: quantity name, quantity values, limit)
 DOMAIN_CHECKS = {"mirror": _mirror_excess, "undulator": _undulator_excess, "tokamak": _tokamak_excess,
                  "dipole": _dipole_excess}

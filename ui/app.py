@@ -32,13 +32,15 @@ CAUTION = ("Research and teaching tool: results are not for radiation-safety or 
            "defer to local regulations and licensed practice.")
 SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
+TAB_SCAN = "Scan"
 
 
 class Lab(Viewer):
     """One session's page, with handles on its state and parts (for tests and scripts)."""
 
-    def __init__(self, state, page, tabs, controls, spectrum=None):
+    def __init__(self, state, page, tabs, controls, spectrum=None, scan=None):
         super().__init__()
+        self.scan = scan
         self.state = state
         self.page = page
         self.tabs = tabs
@@ -62,7 +64,7 @@ def load_initial(state, initial_scenario_path=None):
         state.load_bundled(DEFAULT_SCENARIO)
         state.source_error = message
         return False
-    return state.load_toml(text, path.name)
+    return state.load_toml(text, path.name, base_dir=path.resolve().parent)
 
 
 def spectrum_panel():
@@ -157,20 +159,27 @@ def create_app(initial_scenario_path=None):
     state.param.watch(build_plots, "prepared")
     results_tab = pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
                             sizing_mode="stretch_width", margin=0)
-    tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab)])
+    from .views.scan import ScanTab
+
+    scan = ScanTab(state, on_open=finished)
+    tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab),
+                 (TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan))])
+    tabs.param.watch(lambda event: tabs._names[event.new] == TAB_SCAN and scan.view, "active")
     spectrum_error = html_pane("", visible=False, sizing_mode="stretch_width")
     if spectrum is not None:
         tabs.append((TAB_SPECTRUM, pn.Column(spectrum_error, spectrum, sizing_mode="stretch_width")))
     elif spectrum_message:
         tabs.append((TAB_SPECTRUM, html_pane(f'<div class="ro-note">{html.escape(spectrum_message)}</div>')))
 
+
     if pn.state.curdoc is not None:
         # a closed tab stops its run at the next chunk instead of computing for nobody
         pn.state.on_session_destroyed(lambda _context: state.cancel_run())
+        pn.state.on_session_destroyed(lambda _context: scan.cancel())
 
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)
-    return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum)
+    return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum, scan=scan)
 
 
 def websocket_origins(address, port):

@@ -80,6 +80,10 @@ class LabState(param.Parameterized):
 
     run_count = param.Integer(default=0, doc="Runs finished in this session (completed, cancelled or failed).")
 
+    base_dir = param.String(default=None, allow_None=True, doc="""
+        Folder that relative file names in the draft (field maps) refer to: the folder of
+        the scenario file loaded from disk; None for uploads (their maps are uploaded too).""")
+
     def __init__(self, prepare=None, **params):
         super().__init__(**params)
         self._prepare = prepare
@@ -104,7 +108,22 @@ class LabState(param.Parameterized):
         self.loads += 1
         return True
 
-    def load_toml(self, text, source=""):
+    def store_upload(self, name, content):
+        """Keep an uploaded file (bytes) for this session; returns its absolute path (str).
+
+        Field-map uploads land in one temporary folder per session; the draft then names
+        the file by that absolute path, so it resolves whatever ``base_dir`` is.
+        """
+        import tempfile
+        from pathlib import Path
+
+        if getattr(self, "_upload_dir", None) is None:
+            self._upload_dir = tempfile.mkdtemp(prefix="radorbit-lab-")
+        path = Path(self._upload_dir) / Path(name).name
+        path.write_bytes(content)
+        return str(path)
+
+    def load_toml(self, text, source="", base_dir=None):
         """Load TOML text as the draft; on a syntax error keep the current draft.
 
         Returns
@@ -119,12 +138,13 @@ class LabState(param.Parameterized):
         except ScenarioError as exc:
             self.source_error = f"{source or 'the file'}: {exc}"
             return False
+        self.base_dir = None if base_dir is None else str(base_dir)
         return self.load_dict(data, source)
 
     def load_bundled(self, name):
         """Load one of the bundled scenario files by its file name."""
         path = bundled_path(name)
-        return self.load_toml(path.read_text(encoding="utf-8"), name)
+        return self.load_toml(path.read_text(encoding="utf-8"), name, base_dir=path.resolve().parent)
 
     # ------------------------------------------------------------------ editing
     def value(self, path):
@@ -271,7 +291,7 @@ class LabState(param.Parameterized):
     def validate(self):
         """Hand the draft to ``Scenario.from_dict``; keep the Scenario or the engine's message."""
         try:
-            scenario = Scenario.from_dict(self.draft)
+            scenario = Scenario.from_dict(self.draft, base_dir=self.base_dir)
             plan = scenario.plan()
         except ScenarioError as exc:
             self.param.update(scenario=None, plan=None, error=str(exc), error_key=exc.key)

@@ -12,7 +12,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app, spectrum_panel
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -221,7 +221,7 @@ def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
     assert panel is None and message == ""
     lab = create_app()
     assert TAB_SPECTRUM not in lab.tabs._names
-    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS]
+    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN]
 
 
 @pytest.mark.parametrize("name", sorted(bundled_scenarios()))

@@ -14,6 +14,9 @@ import numpy as np
 from numba import njit
 
 from ..config import KERNEL, LEAF
+from .expression import EXPRESSION, expression_field, expression_rate
+from .fieldmap import FIELD_MAP, field_map_field, field_map_rate
+from .gaussian_beam import GAUSSIAN_BEAM, gaussian_beam_field, gaussian_beam_rate
 from .laser import PLANE_WAVE, plane_wave_field, plane_wave_rate
 from .static import DIPOLE, MIRROR, UNIFORM, dipole_field, mirror_field, uniform_field
 from .tokamak import TOKAMAK, tokamak_field
@@ -21,9 +24,11 @@ from .undulator import UNDULATOR, undulator_field, undulator_rate
 
 #: kind code -> evaluator name, for the registry test (every code reachable, none twice)
 EVALUATORS = {UNIFORM: "uniform_field", PLANE_WAVE: "plane_wave_field", UNDULATOR: "undulator_field",
-              MIRROR: "mirror_field", DIPOLE: "dipole_field", TOKAMAK: "tokamak_field"}
+              MIRROR: "mirror_field", DIPOLE: "dipole_field", TOKAMAK: "tokamak_field",
+              FIELD_MAP: "field_map_field", GAUSSIAN_BEAM: "gaussian_beam_field", EXPRESSION: "expression_field"}
 #: kind code -> rate leaf name for the models that have their own time scale
-RATES = {PLANE_WAVE: "plane_wave_rate", UNDULATOR: "undulator_rate"}
+RATES = {PLANE_WAVE: "plane_wave_rate", UNDULATOR: "undulator_rate", FIELD_MAP: "field_map_rate",
+         GAUSSIAN_BEAM: "gaussian_beam_rate", EXPRESSION: "expression_rate"}
 
 
 @njit(**LEAF)
@@ -44,6 +49,12 @@ def field_row(kinds, params, data, i, x, y, z, t):
         f = dipole_field(p, i, data, x, y, z, t)
     elif kind == TOKAMAK:
         f = tokamak_field(p, i, data, x, y, z, t)
+    elif kind == FIELD_MAP:
+        f = field_map_field(p, i, data, x, y, z, t)
+    elif kind == GAUSSIAN_BEAM:
+        f = gaussian_beam_field(p, i, data, x, y, z, t)
+    elif kind == EXPRESSION:
+        f = expression_field(p, i, data, x, y, z, t)
     else:
         f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
     return f
@@ -73,6 +84,12 @@ def field_at(kinds, params, data, x, y, z, t):
             f = dipole_field(p, i, data, x, y, z, t)
         elif kind == TOKAMAK:
             f = tokamak_field(p, i, data, x, y, z, t)
+        elif kind == FIELD_MAP:
+            f = field_map_field(p, i, data, x, y, z, t)
+        elif kind == GAUSSIAN_BEAM:
+            f = gaussian_beam_field(p, i, data, x, y, z, t)
+        elif kind == EXPRESSION:
+            f = expression_field(p, i, data, x, y, z, t)
         else:
             f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
         ex += f[0]
@@ -92,6 +109,12 @@ def row_rate(kinds, params, data, i, x, y, z, t, bx, by, bz, gamma, qm):
         w = plane_wave_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
     elif kind == UNDULATOR:
         w = undulator_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == GAUSSIAN_BEAM:
+        w = gaussian_beam_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == FIELD_MAP:
+        w = field_map_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
+    elif kind == EXPRESSION:
+        w = expression_rate(params, i, data, x, y, z, t, bx, by, bz, gamma, qm)
     elif kind == UNIFORM or kind == MIRROR or kind == DIPOLE or kind == TOKAMAK:
         w = 0.0
     else:

@@ -24,14 +24,9 @@ from .. import constants as k
 from ..config import LEAF
 from ..errors import ScenarioError
 from .base import ABSENT, FieldModel, Param, cross, dot, unit_vector
+from .envelope import ENVELOPE_GAUSSIAN, ENVELOPE_SIN2, SIN2_FWHM_FRACTION, envelope, pack_envelope  # noqa: F401
 
 PLANE_WAVE = 5
-ENVELOPE_SIN2 = 0.0
-ENVELOPE_GAUSSIAN = 1.0
-
-#: intensity FWHM of a cos^2 amplitude envelope as a fraction of its full length:
-#: cos^4(pi s/T) = 1/2  ->  FWHM = (2/pi) arccos(2^-1/4) T.
-SIN2_FWHM_FRACTION = 2.0 / math.pi * math.acos(2.0 ** -0.25)
 
 
 @njit(**LEAF)
@@ -45,19 +40,9 @@ def plane_wave_field(p, i, data, x, y, z, t):
     """
     w = p[i, 1]
     s = t - (p[i, 2] * x + p[i, 3] * y + p[i, 4] * z - p[i, 13]) / k.c
-    width = p[i, 12]
-    if p[i, 11] == 0.0:
-        # cos^2 amplitude over a full length `width`
-        if abs(s) >= 0.5 * width:
-            return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
-        arg = math.pi * s / width
-        g = math.cos(arg) ** 2
-        dg = -(math.pi / width) * math.sin(2.0 * arg)
-    else:
-        # Gaussian amplitude with intensity FWHM `width`
-        c4 = 4.0 * math.log(2.0) / (width * width)
-        g = math.exp(-0.5 * c4 * s * s)
-        dg = -c4 * s * g
+    g, dg = envelope(p[i, 11], p[i, 12], s)
+    if g == 0.0 and dg == 0.0:
+        return 0.0, 0.0, 0.0, 0.0, 0.0, 0.0
     ph = w * s + p[i, 14]
     cs = math.cos(ph)
     sn = math.sin(ph)
@@ -144,11 +129,8 @@ def _pack(v):
     amplitude = a0_of(v) * k.m_e * k.c / k.e
     n, e1, e2 = polarization_vectors(v)
     h = 1.0 if v["polarization"] == "circular" else 0.0
-    if v["envelope"] == "sin2":
-        envelope, width = ENVELOPE_SIN2, v["duration"] / SIN2_FWHM_FRACTION
-    else:
-        envelope, width = ENVELOPE_GAUSSIAN, v["duration"]
-    return [amplitude, omega, *n, *e1, *(h * c for c in e2), envelope, width, dot(n, v["peak_position"]), v["phase"]]
+    code, width = pack_envelope(v["envelope"], v["duration"])
+    return [amplitude, omega, *n, *e1, *(h * c for c in e2), code, width, dot(n, v["peak_position"]), v["phase"]]
 
 
 MODEL = FieldModel(

@@ -163,6 +163,7 @@ def _write_hdf5(path, datasets, attrs):
 def run_spectrum(args):
     """Compute, print a summary and optionally write the table; returns the exit status 0."""
     from ..cli import output_format
+    from .beam_spectrum import is_beam, orbit_radiated_energy, require_particles
     from .choice import check_synchrotron, choose_method, clip_to_ceiling, quantum_note
 
     method = args.method or "auto"
@@ -171,29 +172,35 @@ def run_spectrum(args):
     if args.output:
         output_format(args.output)
     result = _load(args.result)
+    beam = is_beam(result)
+    if beam:
+        require_particles(result)   # statistics-only beams: refused with the reason
     if args.direction and method == "synchrotron":
         raise ScenarioError("--direction", "does not apply to --method synchrotron (summed over all directions).")
     from .spectrum import default_direction
 
     given = np.array([parse_direction(d) for d in args.direction]) if args.direction else None
     reason = ""
+    probe = result.particle(0) if beam else result   # the method choice looks at one orbit (a beam's first)
     if method == "auto":
-        method, reason = choose_method(result, given)
+        method, reason = choose_method(probe, given)
         if method == "synchrotron" and given is not None:
             raise ScenarioError("--direction", f"the automatic choice is the synchrotron formula, summed over all "
                                                f"directions ({reason}); leave --direction out or choose --method "
                                                "nufft.")
     elif method == "synchrotron":
-        check_synchrotron(result)
+        check_synchrotron(probe)
     directions = given if given is not None else default_direction(result)[None, :]
     omega = parse_omega_range(args.omega_range) if args.omega_range else _default_omega(result, method, directions)
-    omega, cut = clip_to_ceiling(result, omega)
+    omega, cut = clip_to_ceiling(probe, omega)
     photon_ev = k.hbar * omega / k.e
     source = str(args.result)
-    print(f"spectrum of {source} ({len(result.t):,} saved states), method {method}")
+    what = (f"{len(result.t):,} saved states x {result.count:,} particles; the incoherent sum of their spectra"
+            if beam else f"{len(result.t):,} saved states")
+    print(f"spectrum of {source} ({what}), method {method}")
     if reason:
         print(f"method chosen: {reason}")
-    for note in (cut, quantum_note(result)):
+    for note in (cut, quantum_note(probe)):
         if note:
             print(f"note: {note}")
     print(f"omega {omega[0]:.4g} .. {omega[-1]:.4g} rad/s ({_fmt_photon(omega[0])} .. {_fmt_photon(omega[-1])}), "
@@ -203,14 +210,14 @@ def run_spectrum(args):
               "resolve; track with a smaller dt and save_every = 1 to reach higher")
 
     if method == "synchrotron":
-        from .synchrotron import critical_frequency, photon_spectrum, synchrotron_spectrum
+        from .synchrotron import largest_critical_frequency, photon_spectrum, synchrotron_spectrum
 
         dw = synchrotron_spectrum(result, omega)
         dn = photon_spectrum(result, omega)
-        wc = critical_frequency(result)
+        wc = largest_critical_frequency(result)
         total = float(np.trapezoid(dw, omega))
-        print(f"largest critical photon energy {_fmt_photon(wc.max())}; "
-              f"energy in band {total:.4g} J; radiated energy of the orbit {result.radiated_energy[-1]:.4g} J; "
+        print(f"largest critical photon energy {_fmt_photon(wc)}; "
+              f"energy in band {total:.4g} J; radiated energy of the orbit {orbit_radiated_energy(result):.4g} J; "
               f"photons in band {float(np.trapezoid(dn, omega)):.4g}")
         header = ["omega_rad_s", "photon_energy_eV", "dW_domega_J_s", "dN_domega_s"]
         columns = [omega, photon_ev, dw, dn]

@@ -13,6 +13,7 @@ from panel.viewable import Viewer
 from tracker.fields import MODELS as FIELD_MODELS
 
 from .inputs import ErrorBoard, EntryRow
+from .special_inputs import FileEntryRow, FormulaEntryRow, TableEntryRow
 from ..theme import UNITS_NOTE, html_pane
 
 CARD_HEADER = "#e6ecf2"
@@ -23,13 +24,25 @@ def model_options():
     return {f"{model.label} ({name})": name for name, model in FIELD_MODELS.items()}
 
 
+def field_row(state, index, model, p):
+    """The input row for one parameter: chosen by the parameter's kind (number, vector, choice,
+    file, formula or table), so a new model needs no code here."""
+    path = ("field", index, p.name)
+    if p.kind == "path":
+        return FileEntryRow(state, path, p.name, doc=p.doc, default=p.default)
+    if p.kind == "formula":
+        tables = [q.name for q in model.params if q.kind == "table"]
+        return FormulaEntryRow(state, path, p.name, doc=p.doc, unit=p.unit,
+                               parameters_path=("field", index, tables[0]) if tables else None)
+    if p.kind == "table":
+        return TableEntryRow(state, path, p.name, doc=p.doc)
+    return EntryRow(state, path, p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc,
+                    default=p.default, choices=p.choices)
+
+
 def field_rows(state, index, model):
-    """One EntryRow per parameter of ``model`` for field component ``index``."""
-    return [
-        EntryRow(state, ("field", index, p.name), p.name, p.kind, unit=p.unit, dimension=p.dimension,
-                 doc=p.doc, default=p.default, choices=p.choices)
-        for p in model.params
-    ]
+    """One input row per parameter of ``model`` for field component ``index``."""
+    return [field_row(state, index, model, p) for p in model.params]
 
 
 class FieldComposer(Viewer):

@@ -37,7 +37,6 @@ from numba import njit
 
 from .. import constants as k
 from ..config import LEAF
-from ..errors import ScenarioError
 from .base import ABSENT, FieldModel, Param
 from .envelope import ENVELOPES, envelope, pack_envelope
 from .laser import _check as check_plane_wave

@@ -1,9 +1,9 @@
 """Adaptive time step ([run] adaptive = true) on a strongly cooling orbit with an exact solution.
 
-Exact solution (physics-reference sec. 4, derived there from the Landau-Lifshitz force,
-Landau & Lifshitz vol. 2 sec. 76): electron with u perpendicular to a uniform static B,
+Exact solution (derived from the Landau-Lifshitz force, Landau & Lifshitz vol. 2 sec. 76,
+keeping the leading term for gamma >> 1): electron with u perpendicular to a uniform static B,
 gamma(t) = coth(t/tau_B + arccoth gamma0), tau_B = 6 pi eps0 m^3 c^3/(q^4 B^2)
-(5.158666 s at 1 T [V]). A strong field (1e4 T, tau_B = 51.6 ns) makes gamma fall from
+(5.158666 s at 1 T, evaluated with scipy constants). A strong field (1e4 T, tau_B = 51.6 ns) makes gamma fall from
 1000 to 100 within 720 gyrations while the gyration period 2 pi gamma m/(e B) shrinks
 tenfold with it, so a fixed step loses resolution and an adaptive one does not.
 """
@@ -49,7 +49,7 @@ def kinds(result):
 
 
 def test_cooling_time_constant():
-    assert tau_b(1.0) == pytest.approx(5.158666, rel=1e-6)   # physics-reference sec. 4 [V]
+    assert tau_b(1.0) == pytest.approx(5.158666, rel=1e-6)   # 6 pi eps0 m^3 c^3/(e^4 B^2) with scipy constants
 
 
 @pytest.fixture(scope="module")

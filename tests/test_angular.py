@@ -1,6 +1,7 @@
 """Angular distribution dP/dOmega of tracked states against Jackson's closed forms and Lienard's power.
 
-Sources (SI forms and check values from /work/shared/physics-reference.md, sections 1 and 2):
+Sources (SI forms; check values computed independently of radorbit from the closed forms below with
+CODATA constants from scipy.constants):
 - J. D. Jackson, Classical Electrodynamics, 3rd ed., sec. 14.3: general eq. (14.38), linear
   motion (14.39)-(14.41), circular motion (14.44), non-relativistic (14.21); sec. 14.2: Larmor
   (14.22), Lienard (14.26). Equation numbers from memory -- verify.
@@ -53,7 +54,7 @@ def integrate_state(result, index, beta):
 
 # ---------------------------------------------------------------------- point values
 def test_point_values_match_jackson_closed_forms():
-    # physics-reference sec. 2 [V]: beta = 0.9, |a| = 1e15 m/s^2, theta = 0.2, phi = 0.7:
+    # check values computed from Jackson (14.44)/(14.39) with scipy constants: beta = 0.9, |a| = 1e15 m/s^2, theta = 0.2, phi = 0.7:
     # circular 2.8435093045e-22 W/sr (Jackson 14.44), linear 1.1785412536e-21 W/sr (Jackson 14.39)
     beta = 0.9
     u = [0.0, 0.0, beta / math.sqrt(1 - beta**2)]
@@ -65,7 +66,7 @@ def test_point_values_match_jackson_closed_forms():
 
 
 def test_general_state_integrates_to_lienard_check_value():
-    # physics-reference sec. 1, Example A [V]: beta = (0.5, 0.3, 0.1), E = (1e8, -2e8, 5e7) V/m,
+    # check values computed from the Lorentz force and Jackson (14.26) with scipy constants: beta = (0.5, 0.3, 0.1), E = (1e8, -2e8, 5e7) V/m,
     # B = (0.2, 0.5, -1.0) T; a = (3.44201153e17, 6.04182898e18, -1.52379731e19) m/s^2;
     # Lienard P = 3.6363695558e-15 W (Jackson 14.26).
     beta = np.array([0.5, 0.3, 0.1])
@@ -81,7 +82,7 @@ def test_general_state_integrates_to_lienard_check_value():
 
 
 def test_lorentz_acceleration_of_a_tracked_state_matches_check_value():
-    # physics-reference sec. 1, Example A: the acceleration from the Lorentz force at beta = (0.5, 0.3, 0.1)
+    # the same check values as above: the acceleration from the Lorentz force at beta = (0.5, 0.3, 0.1)
     beta = np.array([0.5, 0.3, 0.1])
     gamma = 1.0 / math.sqrt(1.0 - beta @ beta)
     sc = lab_scenario(gamma * beta, E=(1e8, -2e8, 5e7), B=(0.2, 0.5, -1.0))
@@ -124,7 +125,7 @@ def test_circular_motion_pattern_and_integral(beta):
 @pytest.mark.parametrize("beta", [0.5, 0.9, 0.99])
 def test_linear_motion_pattern_peak_and_integral(beta):
     # Jackson (14.39)-(14.41): beta parallel to beta-dot; peak angle arccos[(sqrt(1+15 b^2) - 1)/(3 b)];
-    # check values (physics-reference sec. 2 [V]): 38.158960 deg (0.5), 13.418484 deg (0.9), 4.069477 deg (0.99).
+    # check values computed from that arccos formula: 38.158960 deg (0.5), 13.418484 deg (0.9), 4.069477 deg (0.99).
     expected_peak = {0.5: 38.158960, 0.9: 13.418484, 0.99: 4.069477}[beta]
     gamma = 1.0 / math.sqrt(1.0 - beta**2)
     E = 1e9
@@ -150,7 +151,7 @@ def test_linear_motion_pattern_peak_and_integral(beta):
 def test_charge_at_rest_radiates_sin_squared_and_larmor_power():
     # Jackson (14.21)/(14.22), non-relativistic limit, exact at beta = 0:
     # dP/dOmega = q^2 a^2 sin^2(Theta)/(16 pi^2 eps0 c^3); Larmor a = 1e20 m/s^2 gives
-    # P = 5.708327e-14 W (physics-reference sec. 1 [V]).
+    # P = 5.708327e-14 W (q^2 a^2/(6 pi eps0 c^3) with scipy constants).
     a = 1e20
     E = a * k.m_e / k.e                     # the electron accelerates along -z
     result = track(lab_scenario([0.0, 0.0, 0.0], E=(0.0, 0.0, E)))

@@ -22,10 +22,12 @@ from tracker import track
 H = 1e-6
 
 
-def field_only(fields):
+def field_only(fields, position=(0.7, 0.003, 0.1)):
     # the particle sits away from every model's singular points (dipole centre, tokamak axis)
-    particle = {"species": "electron", "position": [0.7, 0.3, 0.1], "gamma": 2.0, "direction": [1, 0, 0]}
-    return scenario(fields, duration=1e-12, particle=particle, dt=1e-13)
+    # and where the fields are moderate (the undulator grows as cosh(k_u y)): the plan
+    # refuses a step that cannot resolve the gyration or laser period at the start
+    particle = {"species": "electron", "position": list(position), "gamma": 2.0, "direction": [1, 0, 0]}
+    return scenario(fields, duration=1e-16, particle=particle, dt=1e-18)
 
 
 def derivatives(s, point, t=0.0, h=H):
@@ -58,7 +60,7 @@ def test_magnetic_fields_are_divergence_free(fields, point, curl_free):
 
 def test_dipole_matches_planetary_latitude_law():
     moment, radius = 8.0e22, 6.3712e6
-    s = field_only([{"type": "dipole", "moment": [0, 0, -moment]}])
+    s = field_only([{"type": "dipole", "moment": [0, 0, -moment]}], position=(2.5 * radius, 0.0, 0.0))
     b_eq = sc.mu_0 * moment / (4 * math.pi * radius**3)
     for lat in np.radians([0.0, 20.0, 45.0, 70.0]):
         r = 2.5 * radius

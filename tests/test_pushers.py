@@ -3,8 +3,8 @@
 Sources: J.-L. Vay, Phys. Plasmas 15, 056701 (2008) (force-free crossed fields);
 A. V. Higuera and J. R. Cary, Phys. Plasmas 24, 052104 (2017) (abstract: energy
 conservation for E = 0, volume preservation of Boris and HC, E x B velocity of
-Vay and HC); check values from physics-reference section 8 ([V] there, computed
-with numpy from the re-derived update formulas).
+Vay and HC); check values computed with numpy from the update formulas re-derived from
+the papers' implicit relations (independently of the code under test).
 """
 
 import math
@@ -47,7 +47,7 @@ def test_registry_lists_the_three_pushers_with_references():
 @pytest.mark.parametrize("name", ["vay", "higuera-cary"])
 def test_force_free_particle_moves_straight(name, gamma0):
     # Vay 2008: with E + v x B = 0 the exact u is constant; Vay and HC keep it
-    # (physics-reference sec. 8: <= 5e-15 after 100 steps).
+    # (to round-off: <= 5e-15 after 100 steps in a numpy evaluation of the updates).
     u0, eps, tau = force_free_kicks(gamma0, 0.1)
     u = iterate(PUSHERS[name], u0, eps, tau, 100)
     assert abs(math.atan2(u[1], u[0])) < 1e-14
@@ -62,7 +62,7 @@ def test_force_free_particle_moves_straight(name, gamma0):
 ])
 def test_boris_shows_the_spurious_force_free_deflection(gamma0, phase, deflection, growth):
     # Vay 2008 (motivation of the paper): Boris uses gamma(u-) for the rotation, so
-    # E and v x B no longer cancel. Values: physics-reference sec. 8 [V]
+    # E and v x B no longer cancel. Values from a numpy evaluation of the Boris update
     # (final gamma/gamma0 after 100 steps is 16.0 for phase 1, i.e. growth 15.0).
     u0, eps, tau = force_free_kicks(gamma0, phase)
     u = iterate(PUSHERS["boris"], u0, eps, tau, 100)
@@ -88,7 +88,7 @@ def test_magnitude_of_u_is_conserved_in_a_pure_magnetic_field(name):
 @pytest.mark.parametrize("name, det", [("boris", 1.0), ("higuera-cary", 1.0), ("vay", 1.0264929)])
 def test_phase_volume_jacobian(name, det):
     # HC 2017 abstract: Boris and HC are volume-preserving, Vay is not.
-    # Check values: physics-reference sec. 8 [V] at u = (3, -1, 2), eps_E = (0.3, 0.5, -0.2),
+    # Check values: finite-difference Jacobians of numpy versions of the updates at u = (3, -1, 2), eps_E = (0.3, 0.5, -0.2),
     # tau = (0.4, -0.7, 0.9).
     code, e, t, h = PUSHERS[name], (0.3, 0.5, -0.2), (0.4, -0.7, 0.9), 1e-6
     u = np.array([3.0, -1.0, 2.0])

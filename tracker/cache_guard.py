@@ -14,7 +14,8 @@ STAMP = PACKAGE / "__pycache__" / "kernel-sources.sha256"
 
 
 #: the modules compiled kernels are made of (editing the CLI or the schema keeps the cache)
-KERNEL_SOURCES = ("config.py", "constants.py", "kernel.py", "step.py", "timescales.py", "fields", "pushers", "radiation")
+KERNEL_SOURCES = ("config.py", "constants.py", "kernel.py", "step.py", "timescales.py", "rng.py", "fields", "pushers",
+                  "radiation")
 
 
 def kernel_source_files():

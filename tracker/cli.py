@@ -1,4 +1,4 @@
-"""The ``radorbit`` command: run, check, lab, spectrum. Thin wrappers over the Python API."""
+"""The ``radorbit`` command: run, check, fieldmap, lab, spectrum, sweep. Thin wrappers over the Python API."""
 
 import argparse
 import sys
@@ -7,35 +7,114 @@ from pathlib import Path
 from .errors import ScenarioError
 from .stops import StopReason
 
+EXIT_FAILED = 1       #: an output could not be written (the result was kept in the temp folder)
 EXIT_BAD_INPUT = 2
+EXIT_NOT_COMPLETE = 3  #: the run did not end as planned, or a check found it wrong (see its warnings)
 EXIT_CANCELLED = 130  #: as a shell reports Ctrl-C; the partial result was still printed and written
 
+#: eV multiples for the summary table; one is chosen per table so that columns line up
+ENERGY_PREFIXES = (("TeV", 1e12), ("GeV", 1e9), ("MeV", 1e6), ("keV", 1e3), ("eV", 1.0), ("meV", 1e-3))
+#: output formats by file extension (anything else is refused before the run starts)
+OUTPUT_FORMATS = {".h5": "hdf5", ".hdf5": "hdf5", ".csv": "csv"}
+#: two runs "end at the same time" when their end times agree to this fraction of the duration
+SAME_END = 1e-9
 
-def _fmt_energy(joules):
-    """Energy in eV multiples for people."""
+
+def energy_prefix(joules_values):
+    """(label, eV per unit) of one eV multiple for all the energies of a table (J)."""
     from .constants import e
 
-    ev = joules / e
-    for unit, scale in (("TeV", 1e12), ("GeV", 1e9), ("MeV", 1e6), ("keV", 1e3), ("eV", 1.0), ("meV", 1e-3)):
-        if abs(ev) >= scale:
-            return f"{ev / scale:.6g} {unit}"
-    return f"{ev:.4g} eV"
+    finite = [abs(v) / e for v in joules_values if v is not None and v == v and abs(v) != float("inf")]
+    largest = max(finite, default=0.0)
+    for unit, scale in ENERGY_PREFIXES:
+        if largest >= scale:
+            return unit, scale
+    return "eV", 1.0
 
 
-def summary_rows(result):
-    """[(label, text)] of the headline numbers of a Result."""
+def _fmt_energy(joules, prefix):
+    from .constants import e
+
+    unit, scale = prefix
+    return f"{joules / e / scale:.6g} {unit}"
+
+
+def _fmt_time(seconds):
+    for unit, scale in (("s", 1.0), ("ms", 1e-3), ("µs", 1e-6), ("ns", 1e-9), ("ps", 1e-12), ("fs", 1e-15)):
+        if abs(seconds) >= scale:
+            return f"{seconds / scale:.6g} {unit}"
+    return f"{seconds:.4g} s"
+
+
+ENERGY_KEYS = ("final_energy", "initial_kinetic_energy", "final_kinetic_energy", "energy_radiated")
+
+
+def summary_rows(result, prefix=None):
+    """[(label, text)] of the headline numbers of a Result.
+
+    ``prefix`` is the (label, eV per unit) of the energy column (``energy_prefix``); by
+    default the one suited to this result alone.
+    """
     s = result.summary()
+    prefix = prefix or energy_prefix([s[k] for k in ENERGY_KEYS])
+    damped = result.scenario.run.radiation_reaction != "none"
+    radiated = _fmt_energy(s["energy_radiated"], prefix)
+    if not damped:
+        radiated += " (would radiate; damping off, not removed)"
+    steps = s.get("steps")
     return [
-        ("final energy", _fmt_energy(s["final_energy"])),
-        ("energy radiated", _fmt_energy(s["energy_radiated"])),
-        ("fraction lost", f"{s['fraction_lost']:.4g}"),
+        ("end time", _fmt_time(s["end_time"])),
+        ("steps taken", f"{steps:,}" if isinstance(steps, int) else "-"),
+        ("total energy γmc² (final)", _fmt_energy(s["final_energy"], prefix)),
+        ("kinetic energy (start)", _fmt_energy(s["initial_kinetic_energy"], prefix)),
+        ("kinetic energy (final)", _fmt_energy(s["final_kinetic_energy"], prefix)),
+        ("energy radiated", radiated),
+        ("radiated / initial kinetic energy", f"{s['fraction_lost']:.4g}"),
         ("peak power", f"{s['peak_power']:.4g} W"),
         ("peak chi", f"{s['peak_chi']:.4g}"),
         ("energy balance residual", f"{s['energy_balance_residual']:.2e}"),
         ("wall time", f"{s['wall_time']:.3f} s"),
         ("steps/s", f"{s['steps_per_second']:.3g}"),
-        ("stop reason", result.meta.get("stop_reason", "")),
+        ("status", result.status),
     ]
+
+
+def until(result, t_end):
+    """The saved states of ``result`` up to time ``t_end`` (s), as a Result for the table."""
+    import dataclasses
+
+    import numpy as np
+
+    keep = max(1, int(np.searchsorted(result.t, t_end * (1.0 + 1e-12), side="right")))
+    arrays = {name: getattr(result, name)[:keep] for name in ("t", "x", "u", "gamma", "power", "radiated_energy",
+                                                              "field_work", "chi", "dt")}
+    meta = dict(result.meta)
+    if not result.scenario.run.adaptive and meta.get("dt"):
+        meta["steps"] = int(round(float(arrays["t"][-1]) / meta["dt"]))
+    else:
+        meta["steps"] = None
+    return dataclasses.replace(result, meta=meta, **arrays)
+
+
+def comparison_table(results, out=None):
+    """Print the summary table of one or more results; when they end at different times
+    say so first and compare them at their common end time. Returns the results shown."""
+    out = out or sys.stdout
+    ends = {name: float(r.t[-1]) for name, r in results.items()}
+    shown = dict(results)
+    if len(results) > 1:
+        duration = next(iter(results.values())).scenario.run.duration
+        common = min(ends.values())
+        if max(ends.values()) - common > SAME_END * duration:
+            why = "; ".join(f"{name} ended at {_fmt_time(ends[name])} ({r.status})" for name, r in results.items())
+            print(f"NOTE: the runs are not comparable as they stand: {why}. The table compares them at their "
+                  f"common end time {_fmt_time(common)}; the files keep every saved state.", file=out)
+            shown = {name: until(r, common) for name, r in results.items()}
+    prefix = energy_prefix([r.summary()[k] for r in shown.values() for k in ENERGY_KEYS])
+    tables = {name: dict(summary_rows(r, prefix)) for name, r in shown.items()}
+    labels = [label for label, _ in summary_rows(next(iter(shown.values())), prefix)]
+    print_table(["", *shown], [[label, *[tables[name][label] for name in shown]] for label in labels], out=out)
+    return shown
 
 
 def print_table(columns, rows, out=None, wrap=96):
@@ -88,8 +167,10 @@ class _InterruptToCancel:
         import threading
 
         self._previous = None
+        self._previous_term = None
         if threading.current_thread() is threading.main_thread():
             self._previous = signal.signal(signal.SIGINT, self._handle)
+            self._previous_term = signal.signal(signal.SIGTERM, self._handle)
         return self.event
 
     def _handle(self, signum, frame):
@@ -104,6 +185,47 @@ class _InterruptToCancel:
 
         if self._previous is not None:
             signal.signal(signal.SIGINT, self._previous)
+        if self._previous_term is not None:
+            signal.signal(signal.SIGTERM, self._previous_term)
+        return False
+
+
+def output_format(path, key="--output"):
+    """'hdf5' or 'csv' from a file name's extension; anything else is ScenarioError."""
+    suffix = Path(path).suffix.lower()
+    if suffix not in OUTPUT_FORMATS:
+        raise ScenarioError(key, f"{str(path)!r}: unknown extension {suffix or '(none)'!r}; use "
+                                 f"{', '.join(OUTPUT_FORMATS)}.")
+    return OUTPUT_FORMATS[suffix]
+
+
+class _DeferSignals:
+    """Ctrl-C or SIGTERM while a finished result is being written: finish the write first
+    (a half-written file is worth nothing), then exit as interrupted."""
+
+    def __init__(self):
+        self.caught = False
+        self._previous = {}
+
+    def __enter__(self):
+        import signal
+        import threading
+
+        if threading.current_thread() is threading.main_thread():
+            for sig in (signal.SIGINT, signal.SIGTERM):
+                self._previous[sig] = signal.signal(sig, self._handle)
+        return self
+
+    def _handle(self, signum, frame):
+        if not self.caught:
+            print("\nradorbit: finishing the file being written, then stopping", file=sys.stderr)
+        self.caught = True
+
+    def __exit__(self, *exc):
+        import signal
+
+        for sig, handler in self._previous.items():
+            signal.signal(sig, handler)
         return False
 
 
@@ -112,7 +234,7 @@ def _write(result, path):
     import os
     import tempfile
 
-    writer = result.to_csv if path.suffix.lower() == ".csv" else result.to_hdf5
+    writer = result.to_csv if output_format(path) == "csv" else result.to_hdf5
     try:
         writer(path)
         print(f"wrote {path}")
@@ -120,7 +242,7 @@ def _write(result, path):
     except OSError as exc:
         rescue = Path(tempfile.gettempdir()) / f"radorbit-{os.getpid()}-{path.name}"
         writer(rescue)
-        print(f"radorbit: error: cannot write {path} ({exc.strerror}); the result is kept in {rescue}",
+        print(f"radorbit: error: cannot write {path} ({exc.strerror or exc}); the result is kept in {rescue}",
               file=sys.stderr)
         return False
 
@@ -129,6 +251,14 @@ def cmd_run(args):
     from . import compare, load_scenario, track
 
     scenario = _with_overrides(load_scenario(args.scenario), args)
+    if args.output:
+        output_format(args.output)   # refuse an unknown extension before the run, not after it
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import run_beam
+
+        return run_beam(args, scenario)
+    if getattr(args, "snapshots", None):
+        raise ScenarioError("--snapshots", "needs a [beam] scenario (one particle has no snapshots).")
     plan = scenario.plan()
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
@@ -140,23 +270,32 @@ def cmd_run(args):
                 results = {scenario.run.radiation_reaction: track(scenario, progress=update, cancel=cancel)}
     finally:
         bar.close()
-    names = list(results)
-    rows = [[label, *[dict(summary_rows(r))[label] for r in results.values()]]
-            for label, _ in summary_rows(next(iter(results.values())))]
-    print(f"{scenario.title or Path(args.scenario).stem}")
-    print_table(["", *names], rows)
+    from .errors import one_line
+
+    print(one_line(scenario.title or Path(args.scenario).stem, 200))
+    comparison_table(results)
     for name, r in results.items():
         for w in r.warnings:
             print(f"warning ({name}, {w['kind']}, t = {w['time']:.4g} s): {w['message']}")
     ok = True
+    interrupted = False
     if args.output:
         out = Path(args.output)
-        for name, r in results.items():
-            path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
-            ok = _write(r, path) and ok
-    if any(r.meta.get("stop_reason") == StopReason.CANCELLED for r in results.values()):
+        with _DeferSignals() as deferred:
+            for name, r in results.items():
+                path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
+                ok = _write(r, path) and ok
+        interrupted = deferred.caught
+    if interrupted or any(r.meta.get("stop_reason") == StopReason.CANCELLED for r in results.values()):
         return EXIT_CANCELLED
-    return 0 if ok else 1
+    if not ok:
+        return EXIT_FAILED
+    incomplete = [f"{name}: {r.status}" for name, r in results.items() if not r.complete]
+    if incomplete:
+        print(f"radorbit: the run did not complete as planned ({'; '.join(incomplete)}); see the warnings",
+              file=sys.stderr)
+        return EXIT_NOT_COMPLETE
+    return 0
 
 
 def _with_overrides(scenario, args):
@@ -176,6 +315,10 @@ def cmd_check(args):
     from .plan import human_bytes
 
     scenario = _with_overrides(load_scenario(args.scenario), args)
+    if scenario.beam is not None:                      # beams: tracker/beam_cli.py
+        from .beam_cli import check_beam
+
+        return check_beam(args, scenario)
     plan = scenario.plan()
     p = scenario.particle
     rows = [
@@ -194,7 +337,28 @@ def cmd_check(args):
 
     rows += [list(r) for r in regime_rows(scenario)]
     print_table(["check", "value"], rows)
+    from .validity import field_advice
+
+    for w in field_advice(scenario):
+        print(f"warning ({w['kind']}): {w['message']}")
     print("scenario is valid")
+    return 0
+
+
+def cmd_fieldmap(args):
+    from . import load_scenario
+    from .fieldmap_export import export_field_map
+    from .units import parse_scalar
+
+    scenario = load_scenario(args.scenario)
+    t = parse_scalar(args.time, "time", "--time")
+    frequency = parse_scalar(args.frequency, "frequency", "--frequency")
+    bar, update = _progress_bar(f"sampling {Path(args.scenario).stem}")
+    try:
+        path, geometry, shape = export_field_map(scenario, args.grid, Path(args.output), t, frequency, update)
+    finally:
+        bar.close()
+    print(f"wrote {path} ({geometry} map, {' x '.join(map(str, shape))} nodes, t = {t:g} s)")
     return 0
 
 
@@ -227,6 +391,8 @@ def build_parser():
     run.add_argument("scenario", help="scenario TOML file")
     run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
     run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    run.add_argument("--snapshots", metavar="OUT.h5",
+                     help="beam: write the run.snapshots dumps as openPMD (loads back as a [beam] file)")
     add_run_overrides(run)
     run.set_defaults(func=cmd_run)
 
@@ -234,6 +400,16 @@ def build_parser():
     check.add_argument("scenario", help="scenario TOML file")
     add_run_overrides(check)
     check.set_defaults(func=cmd_check)
+
+    fmap = sub.add_parser("fieldmap", help="sample a scenario's fields on a grid and write a field map")
+    fmap.add_argument("scenario", help="scenario TOML file")
+    fmap.add_argument("--grid", nargs="+", required=True, metavar="AXIS=LOW:HIGH:N",
+                      help="x=.. y=.. z=.. (Cartesian) or r=.. z=.. (axisymmetric, axis z); e.g. x=-1cm:1cm:21")
+    fmap.add_argument("--time", default="0 s", help="time at which to sample (default 0 s)")
+    fmap.add_argument("--frequency", default="0 Hz",
+                      help="write a time-harmonic map of this frequency (adds the quadrature part)")
+    fmap.add_argument("-o", "--output", required=True, help="map file to write (.h5, or .csv)")
+    fmap.set_defaults(func=cmd_fieldmap)
 
     lab = sub.add_parser("lab", help="open the browser lab")
     lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")
@@ -250,9 +426,14 @@ def build_parser():
                           help="observer direction (repeatable; default: along the mean velocity)")
     spectrum.add_argument("--omega-range", metavar="LOW,HIGH,N",
                           help="angular frequency grid, rad/s or with units, e.g. '1e15,1e19,400' ")
-    spectrum.add_argument("--method", choices=("direct", "nufft", "synchrotron"), default="nufft")
+    spectrum.add_argument("--method", choices=("auto", "direct", "nufft", "synchrotron"), default="auto",
+                          help="auto (default) chooses by the orbit and prints why")
     spectrum.add_argument("-o", "--output", help="write the table (.h5 or .csv)")
     spectrum.set_defaults(func=cmd_spectrum)
+
+    from .scan.cli import add_parser as add_sweep_parser
+
+    add_sweep_parser(sub)
     return parser
 
 

@@ -20,9 +20,10 @@ from .pushers import PUSHERS
 from .pushers.dispatch import DISPATCHED
 from .radiation.power import chi_scale, power_scale
 from .radiation.reaction import MODELS as RR_MODELS
-from .step import (PL_ADAPTIVE, PL_DAMPING, PL_DT, PL_DTMAX, PL_DTMIN, PL_GRID, PL_INTERVAL, PL_LAST, PL_PUSHER,
-                   PL_SAVE, PL_SEED, PL_SPP, PL_TEND, PLAN_SIZE, SP_CHARGE, SP_CHI, SP_POWER, SP_QM, SP_TAU0,
-                   SPECIES_SIZE, STATE_SIZE)
+from .radiation.stochastic import rate_unit
+from .step import (PL_ADAPTIVE, PL_DAMPING, PL_DT, PL_DTMAX, PL_DTMIN, PL_GRID, PL_INTERVAL, PL_LAST,
+                   PL_PHOTON_MIN, PL_PUSHER, PL_SAVE, PL_SEED, PL_SPP, PL_TEND, PLAN_SIZE, SP_CHARGE, SP_CHI,
+                   SP_POWER, SP_QM, SP_RATE, SP_TAU0, SPECIES_SIZE, STATE_SIZE)
 
 
 @dataclass(frozen=True)
@@ -30,7 +31,7 @@ class Bundle:
     """Everything a kernel needs, as read-only arrays (SI units).
 
     kinds (F,) int64, params (F, FIELD_PARAMS), data (D,): the field table;
-    species (SPECIES_SIZE,): q/m C/kg, tau0 s, q^2 tau0/m, |q| hbar/(m^2 c^3), q C;
+    species (SPECIES_SIZE,): q/m C/kg, tau0 s, q^2 tau0/m, |q| hbar/(m^2 c^3), q C, alpha_q m c^2/hbar 1/s;
     plan_row (PLAN_SIZE,): see ``tracker.step`` PL_* slots; plan: the RunPlan;
     x0 (N, 3) m, u0 (N, 3) gamma*beta, weight (N,): the particles at t = 0;
     state (STATE_SIZE, N): the kernel state at t = 0 (u half a step back).
@@ -59,13 +60,14 @@ class Bundle:
 
 
 def species_row(charge, mass):
-    """[q/m (C/kg), tau0 (s), q^2 tau0/m, |q| hbar/(m^2 c^3), q (C)] for the kernel."""
+    """[q/m (C/kg), tau0 (s), q^2 tau0/m, |q| hbar/(m^2 c^3), q (C), alpha_q m c^2/hbar (1/s)] for the kernel."""
     row = np.zeros(SPECIES_SIZE)
     row[SP_QM] = charge / mass
     row[SP_TAU0] = k.tau0(charge, mass)
     row[SP_POWER] = power_scale(charge, mass)
     row[SP_CHI] = chi_scale(charge, mass)
     row[SP_CHARGE] = charge
+    row[SP_RATE] = rate_unit(charge, mass)
     return row
 
 
@@ -95,6 +97,7 @@ def plan_row(scenario, plan):
     row[PL_GRID] = 1.0 if interval > 0 else 0.0
     row[PL_INTERVAL] = interval
     row[PL_SEED] = float(getattr(run, "seed", 0) or 0)
+    row[PL_PHOTON_MIN] = float(getattr(run, "photon_min_energy", 0.0) or 0.0)
     return row
 
 

@@ -40,6 +40,10 @@ FIELD_PARAMS = 24
 #: the last slot of a row holds the offset of the row's block in the bulk ``data`` array
 DATA_OFFSET_SLOT = FIELD_PARAMS - 1
 
+#: slot of a field row holding the start of the model's block in the bulk ``data``
+#: array (as a float); pack() may use slots 0 .. FIELD_PARAMS - 2.
+DATA_OFFSET_SLOT = FIELD_PARAMS - 1
+
 #: steps per fastest period when the scenario gives neither dt nor
 #: steps_per_period (common practice, no source: Boris phase error ~ theta^2/24).
 DEFAULT_STEPS_PER_PERIOD = 100

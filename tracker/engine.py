@@ -16,10 +16,14 @@ import numpy as np
 from .compile import compile_scenario
 from .config import CHUNK_STEPS
 from .kernel import NSTAT, reduce_partials, run_blocks, run_single
+from .photons import MAX_PHOTONS, PhotonTable
+from .radiation.reaction import MODELS as RR_MODELS
+from .radiation.reaction import QUANTUM_STOCHASTIC
+from .radiation.stochastic import HEADER, PC_DROPPED, PC_DROPPED_ENERGY, PC_RECORDED, PHOTON_COUNTERS, PHOTON_FIELDS
 from .result import Result
+from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_DAMPING, PL_GRID, PL_INTERVAL, PL_LAST, PL_PHOTON_MIN,
+                   RUNNING, SAVED, STATUS, STEP, T, X)
 from .stops import StopReason
-from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_GRID, PL_INTERVAL, PL_LAST, RUNNING, SAVED, STATUS,
-                   STEP, T, X)
 
 STOP_COMPLETED = StopReason.COMPLETED
 STOP_CANCELLED = StopReason.CANCELLED
@@ -36,12 +40,50 @@ LOST_REASONS = {LOST_NONFINITE: STOP_NONFINITE, LOST_KICK: STOP_KICK, LOST_MAX_S
 ARRAY_NAMES = ("t", "dt", "x", "u", "gamma", "power", "radiated_energy", "field_work", "chi")
 
 
+#: every radiation-reaction model, in the order comparisons list them
+MODEL_ORDER = ("none", "landau-lifshitz", "landau-lifshitz-quantum", "quantum-stochastic")
+
+
 @dataclass
 class Comparison:
-    """The same scenario with (``damped``) and without (``undamped``) radiation reaction."""
+    """The same scenario run with several radiation-reaction models.
 
-    damped: object
-    undamped: object
+    ``results`` maps model name -> Result (or BeamResult), in ``MODEL_ORDER``;
+    ``damped`` is the damped run of the classic pair (the scenario's model, or
+    Landau-Lifshitz when it had none) and ``undamped`` the run without radiation reaction,
+    when those models were run (None otherwise).
+    """
+
+    damped: object = None
+    undamped: object = None
+    results: dict = None
+
+    def __post_init__(self):
+        if self.results is None:
+            self.results = {}
+            for result in (self.undamped, self.damped):
+                if result is not None:
+                    self.results[result.scenario.run.radiation_reaction] = result
+        if self.undamped is None:
+            self.undamped = self.results.get("none")
+
+    @property
+    def models(self):
+        """Model names run, in ``MODEL_ORDER``."""
+        return list(self.results)
+
+    def __getitem__(self, model):
+        return self.results[model]
+
+    def energy_radiated(self):
+        """Energy radiated per model (J, weighted sum for a beam): {model: J}."""
+        out = {}
+        for model, result in self.results.items():
+            if hasattr(result, "radiated_energy") and getattr(result, "stats", None) is None:
+                out[model] = float(result.radiated_energy[-1])
+            else:
+                out[model] = float(result.stats["radiated_energy"][-1])
+        return out
 
 
 def _is_cancelled(cancel):
@@ -102,7 +144,8 @@ def outside_reason(scenario, x):
     """Text naming the field model whose domain the position x (3,) m is outside of, or None."""
     for i, f in enumerate(scenario.fields):
         if f.model.outside is not None:
-            reason = f.model.outside(f.params, np.asarray(x, dtype=float))
+            # base_dir: a model's domain may live in a file named relative to the scenario (field maps)
+            reason = f.model.outside(f.params, np.asarray(x, dtype=float), scenario.base_dir)
             if reason:
                 return f"field[{i}]: {reason}"
     return None
@@ -124,14 +167,73 @@ def snapshot_slots(scenario, bundle):
     return slots.astype(np.int64)
 
 
-def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
-    """Run a compiled Bundle to the end (or until cancelled).
+_NO_TABLE = np.zeros(HEADER)
+_NO_TABLE.setflags(write=False)
+
+
+def _emission_table(bundle):
+    """The stochastic model's table, or a stand-in of the same type for the other models."""
+    if int(bundle.plan_row[PL_DAMPING]) != QUANTUM_STOCHASTIC:
+        return _NO_TABLE
+    from .radiation.stochastic import table
+
+    return table()
+
+
+class _PhotonSink:
+    """Photon buffers for one kernel call per chunk, and the rows collected so far (block order)."""
+
+    def __init__(self, bundle, limit=None):
+        self.active = int(bundle.plan_row[PL_DAMPING]) == QUANTUM_STOCHASTIC
+        self.blocks = max(1, (bundle.count + 63) // 64)
+        self.remaining = MAX_PHOTONS if limit is None else int(limit)
+        self.rows = []
+        self.dropped = 0
+        self.dropped_energy = 0.0
+
+    def buffers(self):
+        """(photons (blocks, capacity, PHOTON_FIELDS), counters (blocks, PHOTON_COUNTERS)) for one call.
+
+        Each block gets twice its share of the photons still allowed (all of them for one
+        block): blocks fill at similar rates, so the cap is what limits, not the split.
+        """
+        capacity = 0
+        if self.active and self.remaining > 0:
+            capacity = self.remaining if self.blocks == 1 else min(self.remaining,
+                                                                   -(-2 * self.remaining // self.blocks))
+        return np.empty((self.blocks, capacity, PHOTON_FIELDS)), np.zeros((self.blocks, PHOTON_COUNTERS))
+
+    def collect(self, photons, counters):
+        for b in range(self.blocks):
+            n = int(counters[b, PC_RECORDED])
+            take = min(n, self.remaining)
+            if take:
+                self.rows.append(photons[b, :take].copy())
+            self.remaining -= take
+            self.dropped += int(counters[b, PC_DROPPED]) + (n - take)
+            self.dropped_energy += float(counters[b, PC_DROPPED_ENERGY])
+            if n > take:
+                self.dropped_energy += float(photons[b, take:n, 7].sum())
+
+    def table(self, bundle):
+        if not self.active:
+            return None
+        rows = np.concatenate(self.rows) if self.rows else np.zeros((0, PHOTON_FIELDS))
+        return PhotonTable.from_rows(rows, bundle.weight, min_energy=bundle.plan_row[PL_PHOTON_MIN],
+                                     dropped=self.dropped, dropped_energy=self.dropped_energy)
+
+
+def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True, photon_sink=None):
+    """Run a compiled Bundle to the end (or until cancelled); photons of the stochastic
+    model go to ``photon_sink`` (a ``_PhotonSink``) when given.
 
     Returns (arrays dict of (n_saved, N[, 3]) or None, statistics array (n_saved, NSTAT),
     final state (STATE_SIZE, N), wall time s, kernel load time s, snapshots list of
     (saved-state index, x (N, 3) m, u (N, 3))).
     """
     state = np.array(bundle.state)  # writable copy; the Bundle stays read-only
+    sink = photon_sink or _PhotonSink(bundle)
+    qtab = _emission_table(bundle)
     n = bundle.count
     single = n == 1
     table = bundle.table
@@ -142,11 +244,13 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
     pieces, stat_pieces = [], []
     load_start = time.perf_counter()
     if single:
-        run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values())
+        run_single(*table, sp, pl, state.copy(), 0, 0, *_buffers(1, 1).values(), qtab,
+                   *_PhotonSink(bundle, 0).buffers())
     else:
         run_blocks(*table, sp, pl, state.copy(), bundle.weight, 0, math.inf, 0, True,
                    *_buffers(1, n).values(), np.zeros((max(1, (n + 63) // 64), 1, NSTAT)),
-                   np.zeros(0, dtype=np.int64), np.zeros((0, n, 3)), np.zeros((0, n, 3)))
+                   np.zeros(0, dtype=np.int64), np.zeros((0, n, 3)), np.zeros((0, n, 3)), qtab,
+                   *_PhotonSink(bundle, 0).buffers())
     load_time = time.perf_counter() - load_start
     start = time.perf_counter()
     slot_base = 0
@@ -168,11 +272,13 @@ def run_bundle(bundle, scenario, progress=None, cancel=None, store_all=True):
         buffers = _buffers(capacity, n) if (store_all or single) else _buffers(1, 1)
         blocks = (n + 63) // 64
         partials = np.zeros((blocks, capacity, NSTAT))
+        photons, counters = sink.buffers()
         if single:
-            run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values())
+            run_single(*table, sp, pl, state, call_steps, slot_base, *buffers.values(), qtab, photons, counters)
         else:
             run_blocks(*table, sp, pl, state, bundle.weight, call_steps, call_stop, slot_base, store_all,
-                       *buffers.values(), partials, snap_slots, snap_x, snap_u)
+                       *buffers.values(), partials, snap_slots, snap_x, snap_u, qtab, photons, counters)
+        sink.collect(photons, counters)
         saved = int(np.max(state[SAVED])) - slot_base
         if store_all or single:
             pieces.append({name: a[:saved] for name, a in buffers.items()})
@@ -232,7 +338,8 @@ def track(scenario, progress=None, cancel=None):
     bundle = compile_scenario(scenario)
     if getattr(scenario, "beam", None) is not None:
         return _track_beam(scenario, bundle, progress, cancel)
-    arrays, _, state, wall, load_time, _ = run_bundle(bundle, scenario, progress, cancel)
+    sink = _PhotonSink(bundle)
+    arrays, _, state, wall, load_time, _ = run_bundle(bundle, scenario, progress, cancel, photon_sink=sink)
     stop, lost = _stop_reason(scenario, bundle, state)
     detail = ""
     if lost[0] == LOST_DOMAIN:
@@ -244,6 +351,7 @@ def track(scenario, progress=None, cancel=None):
     if detail:
         meta["stop_detail"] = detail
     result = Result(scenario=scenario, meta=meta, **{name: np.ascontiguousarray(one[name]) for name in ARRAY_NAMES})
+    result.photons = sink.table(bundle)
     _attach_warnings(result)
     return result
 
@@ -252,7 +360,8 @@ def _track_beam(scenario, bundle, progress, cancel):
     from .beam_result import BeamResult
 
     store_all = getattr(scenario.run, "save", "all") == "all"
-    arrays, stats, state, wall, load_time, snaps = run_bundle(bundle, scenario, progress, cancel, store_all)
+    sink = _PhotonSink(bundle)
+    arrays, stats, state, wall, load_time, snaps = run_bundle(bundle, scenario, progress, cancel, store_all, sink)
     stop, lost = _stop_reason(scenario, bundle, state)
     meta = _meta(scenario, bundle, state, stop, wall, load_time)
     meta["lost"] = {LOST_REASONS[c]: int(np.sum(lost == c)) for c in LOST_REASONS if np.any(lost == c)}
@@ -264,6 +373,10 @@ def _track_beam(scenario, bundle, progress, cancel):
                         lost_time=np.where(lost != LOST_NONE, state[T], np.inf), weight=weight,
                         stats=statistics_from_moments(stats), snapshots=snapshots,
                         **{name: arrays.get(name) for name in ARRAY_NAMES if name != "t"})
+    from .beam_validity import check_beam
+
+    result.photons = sink.table(bundle)
+    result.warnings = check_beam(result) + photon_warnings(result.photons)
     return result
 
 
@@ -296,10 +409,21 @@ def statistics_from_moments(stats):
 
 
 def _attach_warnings(result):
-    """Validity checks after every run (tracker.validity)."""
+    """Validity checks after every run (tracker.validity), and the photon cap."""
     from .validity import check_result
 
-    result.warnings = check_result(result)
+    result.warnings = check_result(result) + photon_warnings(getattr(result, "photons", None))
+
+
+def photon_warnings(photons):
+    """'photons' warning when photons above photon_min_energy were not kept (the MAX_PHOTONS cap)."""
+    if photons is None or photons.dropped == 0:
+        return []
+    return [{"kind": "photons", "time": float(photons.t[-1]) if len(photons) else 0.0,
+             "message": (f"{photons.dropped} photons above photon_min_energy were not recorded: the run keeps at most "
+                         f"{MAX_PHOTONS} photons ({MAX_PHOTONS * 80 / 1e6:.0f} MB). Their energy "
+                         f"({photons.dropped_energy:.4g} J) is still in radiated_energy. Raise run.photon_min_energy "
+                         "or shorten the run to record them all.")}]
 
 
 def _initial_record(scenario, bundle):
@@ -325,13 +449,37 @@ def damped_and_undamped(scenario):
     return damped, scenario.with_run(radiation_reaction="none")
 
 
-def compare(scenario, progress=None, cancel=None):
-    """Run the scenario with and without radiation reaction, side by side on two threads.
+def compare(scenario, models=None, progress=None, cancel=None):
+    """Run the scenario with each radiation-reaction model, side by side on up to two threads.
 
-    ``progress`` receives the mean fraction done of the two runs; ``cancel`` stops both.
+    Parameters
+    ----------
+    scenario : Scenario
+    models : sequence of str, optional
+        Names from ``tracker.radiation.reaction.MODELS`` (any order; run and listed in
+        ``MODEL_ORDER``). Default: the damped/undamped pair -- the scenario's model (or
+        ``landau-lifshitz`` when it has none) and ``none``.
+    progress : callable(fraction), optional -- mean fraction done of the runs
+    cancel : threading.Event or callable, optional -- stops every run
+
+    Returns
+    -------
+    Comparison -- ``.results[model]``; ``.damped``/``.undamped`` for the default pair
     """
-    damped, undamped = damped_and_undamped(scenario)
-    fractions = [0.0, 0.0]
+    from .errors import ScenarioError
+
+    if models is None:
+        damped, undamped = damped_and_undamped(scenario)
+        runs = [damped, undamped]
+    else:
+        names = list(dict.fromkeys(models))
+        unknown = [m for m in names if m not in RR_MODELS]
+        if unknown or not names:
+            raise ScenarioError("models", f"must name models from {', '.join(MODEL_ORDER)}, not {list(models)!r}.")
+        names.sort(key=MODEL_ORDER.index)
+        runs = [scenario if scenario.run.radiation_reaction == m else scenario.with_run(radiation_reaction=m)
+                for m in names]
+    fractions = [0.0] * len(runs)
 
     def reporter(i):
         if progress is None:
@@ -339,11 +487,15 @@ def compare(scenario, progress=None, cancel=None):
 
         def report(fraction):
             fractions[i] = fraction
-            progress(0.5 * (fractions[0] + fractions[1]))
+            progress(sum(fractions) / len(fractions))
 
         return report
 
     with ThreadPoolExecutor(max_workers=2) as pool:
-        jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate((damped, undamped))]
+        jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate(runs)]
         results = [job.result() for job in jobs]
-    return Comparison(damped=results[0], undamped=results[1])
+    if models is None:
+        return Comparison(damped=results[0], undamped=results[1])
+    by_model = {r.scenario.run.radiation_reaction: r for r in results}
+    damped_model = scenario.run.radiation_reaction if scenario.run.radiation_reaction != "none" else "landau-lifshitz"
+    return Comparison(damped=by_model.get(damped_model), undamped=by_model.get("none"), results=by_model)

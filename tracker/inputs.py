@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from . import constants as k
 from . import species as sp
 from .config import DEFAULT_MAX_STEPS
-from .errors import ScenarioError
+from .errors import ScenarioError, brief
 from .fields.base import ABSENT, REQUIRED, Param
 from .pushers import PUSHERS
 from .radiation.reaction import MODELS as RR_MODELS
@@ -78,9 +78,12 @@ class Input(Param):
             return raw
         if self.kind == "integer":
             low = 0 if self.minimum is None else int(self.minimum)
-            if (isinstance(raw, bool) or not isinstance(raw, (int, float)) or not math.isfinite(raw)
-                    or raw != int(raw) or raw < low):
-                raise ScenarioError(key, f"must be a whole number >= {low}, not {raw!r}.")
+            if (isinstance(raw, bool) or not isinstance(raw, (int, float))
+                    or (isinstance(raw, float) and not math.isfinite(raw)) or raw != int(raw) or raw < low):
+                raise ScenarioError(key, f"must be a whole number >= {low}, not {brief(raw)}.")
+            if raw > MAX_COUNT:
+                # a 309-digit integer overflowed the plan; the kernel's float64 plan row holds 2^53 exactly
+                raise ScenarioError(key, f"must be at most 2^53 = {MAX_COUNT:.4g}, not {brief(raw)}.")
             return int(raw)
         if self.kind == "vector":
             value = parse_vector(raw, self.dimension, key)
@@ -114,6 +117,10 @@ class Input(Param):
             raise ScenarioError(key, f"must be below {self.below_text or repr(self.below)}, not {raw!r}.")
 
 
+#: largest whole number accepted for counts (save_every, max_steps, count, ...)
+MAX_COUNT = 2**53
+
+
 def by_name(inputs):
     """{name: Input} of a descriptor list."""
     return {i.name: i for i in inputs}
@@ -141,6 +148,10 @@ RUN_INPUTS = (
               "(memory independent of the particle count)"),
     Input("snapshots", "list", "time", (), minimum=0.0, label="snapshots",
           doc="times of full particle dumps (positions, momenta, weights), within the duration"),
+    Input("seed", "integer", ABSENT, minimum=0, label="emission seed",
+          doc="random-number seed of the quantum-stochastic model (0 when absent; below 2**53)"),
+    Input("photon_min_energy", "scalar", "energy", ABSENT, minimum=0.0, label="photon record threshold",
+          doc="photons of the quantum-stochastic model below this energy are not recorded (0: all)"),
 )
 
 PARTICLE_INPUTS = (

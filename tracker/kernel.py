@@ -21,13 +21,15 @@ import numpy as np
 from numba import njit, prange
 
 from . import constants as k
-from .config import KERNEL
-from .fields.evaluate import field_at
+from .config import KERNEL, LEAF
+from .fields.evaluate import analytic_field_at, bulk_fields_at, field_at, has_bulk_rows
 from .pushers.dispatch import push
-from .radiation.reaction import radiation_kick
-from .step import (BPREV, DTPREV, EPREV, GAMMA_HALF, PL_ADAPTIVE, PL_DAMPING, PL_PUSHER, RAD, RUNNING, SAVED, SP_CHI, SP_QM,
-                   SP_TAU0, STATE_SIZE, STATUS, T, U, WORK, X, advance, load_state, plan_tuple, species_tuple,
-                   adaptive_rate, store_state)
+from .radiation.reaction import QUANTUM_STOCHASTIC, radiation_kick
+from .radiation.stochastic import CHI_STOCHASTIC_MIN, emit_step
+from .step import (BPREV, DTPREV, EPREV, GAMMA_HALF, PL_ADAPTIVE, PL_DAMPING, PL_PHOTON_MIN, PL_PUSHER, PL_SEED,
+                   RAD, RUNNING, SAVED, SP_CHARGE, SP_CHI, SP_QM, SP_RATE, SP_TAU0, STATE_SIZE, STATUS, STEP, T, U,
+                   WORK, X, adaptive_rate, advance, load_state, plan_tuple, species_tuple, store_state,
+                   with_emission)
 
 #: particles per block: the particle loop inside the step loop works on this many (common practice)
 BLOCK = 64
@@ -60,12 +62,12 @@ def start_states(kinds, params, data, sp, pl, x0, u0, dt, state):
         hq = -0.25 * qm * dt   # half of the push over -dt/2
         hqc = hq / k.c
         hx, hy, hz = push(pusher, ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
-        kx, ky, kz = radiation_kick(damping, 0.5 * dt, qm, sp[SP_TAU0], sp[SP_CHI], ux, uy, uz,
+        g0 = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
+        kx, ky, kz = radiation_kick(damping, 0.5 * dt, qm, sp[SP_TAU0], sp[SP_CHI], g0, ux, uy, uz,
                                     ex, ey, ez, bx, by, bz, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
         hx -= kx
         hy -= ky
         hz -= kz
-        g0 = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
         back = k.c * dt / g0
         f = field_at(kinds, params, data, x - ux * back, y - uy * back, z - uz * back, -dt)
         for s in range(STATE_SIZE):
@@ -212,16 +214,38 @@ def reduce_partials(partials, n_used, out):
             acc[S_W] = w
 
 
+@njit(**LEAF)
+def emit_photons(qtab, sp, pl, j, s, s_new, gamma, chi, t, dt, photons, counters, block):
+    """Photon emission of particle j's step (stochastic model): the state tuple after it.
+
+    ``s`` is the state before ``advance``, ``s_new`` after; gamma, chi, t (s) and dt (s) are
+    the synchronous state's values that ``advance`` returned. The emission interval is the
+    push interval centred on t (dt for fixed steps, the mean of two steps for adaptive ones).
+    """
+    dt_push = 0.5 * (s[DTPREV] + dt) if pl[PL_ADAPTIVE] != 0.0 else dt
+    rest_energy = sp[SP_CHARGE] / sp[SP_QM] * k.c * k.c
+    eps, ux, uy, uz = emit_step(qtab, int(pl[PL_SEED]), j, int(s[STEP]), gamma, chi, s[U], s[U + 1], s[U + 2],
+                                s_new[U], s_new[U + 1], s_new[U + 2], dt_push, sp[SP_RATE], t,
+                                s[X], s[X + 1], s[X + 2], rest_energy, pl[PL_PHOTON_MIN], True,
+                                photons, counters, block)
+    if eps > 0.0:
+        return with_emission(s_new, ux, uy, uz, eps * rest_energy)
+    return s_new
+
+
 @njit(parallel=True, **KERNEL)
 def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot_base, store_all,
                out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi, partials,
-               snap_slots, snap_x, snap_u):
+               snap_slots, snap_x, snap_u, qtab, photons, counters):
     """Advance every running particle by up to ``n_steps`` steps, or until its time reaches ``t_stop`` (s).
 
     Saved states go to slot ``saved - 1 - slot_base`` of the chunk: the full arrays
     (``out_*``, shapes (slots, N) and (slots, N, 3)) when ``store_all``, and always the
     block partials (blocks, slots, NSTAT). A saved state whose overall index is
     ``snap_slots[k]`` is also copied to the snapshot ``snap_x[k]``, ``snap_u[k]`` (N, 3).
+    Photons of the stochastic model go to ``photons[block]`` (blocks, capacity,
+    PHOTON_FIELDS), counted in ``counters[block]`` (``emit_photons``); the particles of a
+    block run in a fixed order, so the photon list is the same for any thread count.
     Units: SI; u = gamma beta.
     """
     n = state.shape[1]
@@ -230,6 +254,8 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
     spt = species_tuple(sp)
     plt = plan_tuple(pl)
     adaptive = pl[PL_ADAPTIVE] != 0.0
+    bulk = has_bulk_rows(kinds)
+    stochastic = int(pl[PL_DAMPING]) == QUANTUM_STOCHASTIC
     for b in prange(n_blocks):
         b0 = b * BLOCK
         b1 = min(n, b0 + BLOCK)
@@ -241,9 +267,14 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                     continue
                 active += 1
                 s = load_state(state, j)
-                f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                f = analytic_field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                if bulk:
+                    g = bulk_fields_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                    f = (f[0] + g[0], f[1] + g[1], f[2] + g[2], f[3] + g[3], f[4] + g[4], f[5] + g[5])
                 omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
                 s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
+                if stochastic and chi >= CHI_STOCHASTIC_MIN and s_new[STATUS] == RUNNING:
+                    s_new = emit_photons(qtab, spt, plt, j, s, s_new, g_s, chi, t_s, dt_s, photons, counters, b)
                 store_state(state, j, s_new)
                 if recorded:
                     slot = int(state[SAVED, j]) - 1 - slot_base
@@ -285,18 +316,26 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
 
 @njit(**KERNEL)
 def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
-               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi):
+               out_t, out_dt, out_x, out_u, out_gamma, out_power, out_rad, out_work, out_chi,
+               qtab, photons, counters):
     """``run_blocks`` for one particle (column 0 of ``state``), without blocks or statistics."""
     spt = species_tuple(sp)
     plt = plan_tuple(pl)
     adaptive = pl[PL_ADAPTIVE] != 0.0
+    bulk = has_bulk_rows(kinds)
+    stochastic = int(pl[PL_DAMPING]) == QUANTUM_STOCHASTIC
     s = load_state(state, 0)
     for _ in range(n_steps):
         if s[STATUS] != RUNNING:
             break
-        f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+        f = analytic_field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+        if bulk:
+            g = bulk_fields_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+            f = (f[0] + g[0], f[1] + g[1], f[2] + g[2], f[3] + g[3], f[4] + g[4], f[5] + g[5])
         omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
         s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
+        if stochastic and chi >= CHI_STOCHASTIC_MIN and s_new[STATUS] == RUNNING:
+            s_new = emit_photons(qtab, spt, plt, 0, s, s_new, g_s, chi, t_s, dt_s, photons, counters, 0)
         if recorded:
             slot = int(s_new[SAVED]) - 1 - slot_base
             out_t[slot, 0] = t_s

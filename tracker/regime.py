@@ -8,13 +8,13 @@ Estimates
 ---------
 * a0 of each plane wave, for the tracked species: |q| E0/(m c omega).
 * chi: in a plane wave chi = gamma (1 - n.beta) E0/E_S exactly (E_S = m^2 c^3/(|q| hbar);
-  physics-reference sec. 9), at the peak of the pulse and the initial momentum; in
+  Di Piazza et al. 2012, from memory), at the peak of the pulse and the initial momentum; in
   the static fields at the start, chi = gamma sqrt(|E + v x B|^2 - (E.v)^2/c^2)/E_S.
 * Radiation-reaction strength. Laser: R_c = alpha a0 chi (Di Piazza et al.,
   Rev. Mod. Phys. 84, 1177 (2012), section from memory) and the classical loss
   across the whole pulse from the exact Landau-Lifshitz solution in a plane wave,
   u^-_f = u^-_0/h, h = 1 + tau0 omega u^-_0 Int |a'(phi)|^2 dphi (A. Di Piazza,
-  Lett. Math. Phys. 83, 305 (2008); physics-reference sec. 5). Static fields: the
+  Lett. Math. Phys. 83, 305 (2008)). Static fields: the
   radiative cooling time t_cool = gamma m c^2/P at the start against the run
   duration; for P ~ gamma^2 (ultra-relativistic) gamma(t) = gamma0/(1 + t/t_cool)
   [derived from d gamma/dt = -gamma^2/(gamma0 t_cool)].
@@ -31,12 +31,16 @@ import math
 import numpy as np
 
 from . import constants as k
-from .validity import CHI_QUANTUM, MAX_LOSS_PER_STEP, MIN_STEPS_PER_PERIOD, R_C_DOMINATED, laser_rows, species_a0
+from .validity import (CHI_QUANTUM, MAX_LOSS_PER_STEP, MIN_STEPS_PER_PERIOD, R_C_DOMINATED, format_count,
+                       laser_rows, species_a0)
 
 #: sampling of a laser pulse for Int |a'|^2 dphi (points per carrier period)
 POINTS_PER_CYCLE = 64
 #: a Gaussian envelope is integrated over +-this many intensity FWHM
 GAUSSIAN_SPAN = 3.0
+#: longer pulses (in carrier cycles) use the cycle-averaged integral instead of sampling
+#: (sampling a 1 s pulse of a 1 um laser would need 1e16 points)
+MAX_SAMPLED_CYCLES = 20_000
 #: R_c below which radiation reaction is a small correction (common practice, no source)
 R_C_WEAK = 1e-2
 #: E/(c B) above which crossed fields count as strong for the pusher choice
@@ -59,7 +63,7 @@ def pulse_derivative_squared(values, omega):
     + h e2 sin(w s + phase)] with a cos^2 (full length T = duration/0.364) or Gaussian
     amplitude envelope; phi = w s.
     """
-    from .fields.laser import SIN2_FWHM_FRACTION
+    from .fields.envelope import SIN2_FWHM_FRACTION
 
     circular = values["polarization"] == "circular"
     if values["envelope"] == "sin2":
@@ -68,6 +72,8 @@ def pulse_derivative_squared(values, omega):
     else:
         half = GAUSSIAN_SPAN * values["duration"]
     cycles = 2.0 * half * omega / (2.0 * math.pi)
+    if cycles > MAX_SAMPLED_CYCLES:
+        return _long_pulse_derivative_squared(values, omega, circular)
     n = int(max(2000, POINTS_PER_CYCLE * cycles))
     s = np.linspace(-half, half, n)
     if values["envelope"] == "sin2":
@@ -84,6 +90,20 @@ def pulse_derivative_squared(values, omega):
     integrand = d1 * d1 + d2 * d2
     peak = float(np.sqrt(integrand.max()))
     return float(np.trapezoid(integrand, omega * s)), peak
+
+
+def _long_pulse_derivative_squared(values, omega, circular):
+    """``pulse_derivative_squared`` for a pulse of many cycles: the carrier averages out,
+    |da/dphi|^2 -> g^2 (1/2 linear, 1 circular) up to O(1/(omega T)^2) [derived], so
+    Int |a'|^2 dphi = omega Int g^2 ds with Int cos^4(pi s/T) ds = 3T/8 and
+    Int exp(-c4 s^2) ds = sqrt(pi/c4); the peak of |a'| is 1."""
+    from .fields.envelope import SIN2_FWHM_FRACTION
+
+    if values["envelope"] == "sin2":
+        g2 = 3.0 / 8.0 * values["duration"] / SIN2_FWHM_FRACTION
+    else:
+        g2 = math.sqrt(math.pi * values["duration"] ** 2 / (4.0 * math.log(2.0)))
+    return omega * g2 * (1.0 if circular else 0.5), 1.0
 
 
 def regime(scenario):
@@ -110,7 +130,7 @@ def regime(scenario):
         eta0 = gamma0 * (1.0 - float(beta0 @ n))   # light-front momentum u^- = gamma - n.u
         a0s = species_a0(a0, scenario)
         integral, peak = pulse_derivative_squared(f, omega)
-        # chi = u^- |a'|_max hbar omega/(m c^2) = gamma (1 - n.beta) E_peak/E_S (physics-reference sec. 5, 9)
+        # chi = u^- |a'|_max hbar omega/(m c^2) = gamma (1 - n.beta) E_peak/E_S (Di Piazza 2008; Di Piazza et al. 2012)
         chi = eta0 * a0s * peak * k.hbar * omega / rest
         h = 1.0 + tau0 * omega * eta0 * a0s**2 * integral
         lasers.append({"field": i, "a0": a0, "a0_species": a0s, "chi": chi, "R_c": k.alpha * a0s * chi,
@@ -149,9 +169,18 @@ def recommend_resolution(scenario, lasers, static):
     run = scenario.run
     plan = scenario.plan()
     out = []
-    spp = plan.steps_per_period
-    if spp is not None and spp < MIN_STEPS_PER_PERIOD:
-        out.append(f"raise steps_per_period to >= {math.ceil(MIN_STEPS_PER_PERIOD)} (now {spp:.3g})")
+    spp = plan.steps_per_period   # the plan's own resolution: check and run read the same number
+    speedup = mirror_speedup(scenario, plan)
+    if spp is not None and spp / speedup < MIN_STEPS_PER_PERIOD:
+        target = format_count(spp * MIN_STEPS_PER_PERIOD / (spp / speedup))
+        where = (f"; only {spp / speedup:.3g} where the particle mirrors: the gyration speeds up by "
+                 f"u^2/u_perp^2 = {speedup:.3g} there (conserved magnetic moment)" if speedup > 1.0 else "")
+        key = "dt" if run.dt is not None else "steps_per_period"
+        if key == "dt":
+            out.append(f"dt <= {plan.dt * spp / speedup / MIN_STEPS_PER_PERIOD:.3g} s (now {spp:.3g} steps per "
+                       f"period at the start{where})")
+        else:
+            out.append(f"raise steps_per_period to >= {target} (now {spp:.3g} at the start{where})")
     gamma_drop = static["gamma_final"] / max(1.0, math.sqrt(1.0 + float(scenario.particle.u @ scenario.particle.u)))
     for las in lasers:
         gamma_drop = min(gamma_drop, 1.0 / las["h"])
@@ -166,6 +195,38 @@ def recommend_resolution(scenario, lasers, static):
     if not out:
         out.append(f"as planned ({spp:.3g} steps per period)" if spp else "as planned")
     return out
+
+
+#: static magnetic models whose strength varies along field lines (mirror points exist)
+MIRRORING_FIELDS = ("mirror", "dipole", "tokamak")
+
+
+def mirror_speedup(scenario, plan):
+    """How much faster than at the start the gyration can become, >= 1.
+
+    In a static magnetic field that varies slowly, |u| and the magnetic moment
+    u_perp^2/B are conserved (first adiabatic invariant; T. G. Northrop, The Adiabatic
+    Motion of Charged Particles (1963), ch. 1, from memory), so B -- and the gyration
+    rate -- grow at most by u^2/u_perp^2 = 1/sin^2(pitch) before the particle mirrors.
+    Applies when the plan's fastest scale is the gyration, the fields are static magnetic
+    ones of ``MIRRORING_FIELDS`` (plus uniform ones) and there is no E at the start; else 1.
+    """
+    types = {f.type for f in scenario.fields}
+    if "gyration" not in str(plan.period_source) or not types & set(MIRRORING_FIELDS):
+        return 1.0
+    if not types <= set(MIRRORING_FIELDS) | {"uniform"}:
+        return 1.0
+    p = scenario.particle
+    e, b = scenario.fields_at(np.array([p.position], dtype=float), 0.0)
+    e, b = e[0], b[0]
+    u = np.asarray(p.u, dtype=float)
+    b2, u2 = float(b @ b), float(u @ u)
+    if float(e @ e) > 0 or not (b2 > 0 and u2 > 0):
+        return 1.0
+    u_perp2 = u2 - float(u @ b) ** 2 / b2
+    if not u_perp2 > 0:
+        return 1.0   # moving along B: no gyration to speed up
+    return max(1.0, u2 / u_perp2)
 
 
 def _strength(r_c):
@@ -200,8 +261,9 @@ def regime_rows(scenario):
                      f"at the end if P ~ gamma^2 (from {r['gamma0']:.4g})"))
     if r["chi"] > CHI_QUANTUM:
         rows.append(("quantum regime",
-                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: use radiation_reaction = \"landau-lifshitz-quantum\"; "
-                     "stochastic emission is not modelled by this tool"))
+                     f"chi ~ {r['chi']:.3g} > {CHI_QUANTUM}: radiation_reaction = \"landau-lifshitz-quantum\" for "
+                     "the mean loss, \"quantum-stochastic\" for the spread and the photons"
+                     + ("; pair creation (chi >= 1) is not modelled" if r["chi"] >= 1.0 else "")))
     name, reason = r["pusher"]
     current = scenario.run.pusher
     rows.append(("recommended pusher", f"{name}" + ("" if name == current else f" (now {current})") + f": {reason}"))

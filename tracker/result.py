@@ -6,6 +6,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from pathlib import Path
+
 from . import constants as k
 from .io import atomic_path
 
@@ -43,6 +45,8 @@ class Result:
     scenario : Scenario
     meta : dict -- steps, wall_time (s), stop_reason, complete, ...
     warnings : list of dict -- kind, message, time (s)
+    photons : PhotonTable or None -- photons recorded by the ``quantum-stochastic`` model
+        (tracker.photons); None for the continuous models
     """
 
     t: np.ndarray
@@ -57,6 +61,7 @@ class Result:
     scenario: object
     meta: dict = field(default_factory=dict)
     warnings: list = field(default_factory=list)
+    photons: object = None
 
     # ------------------------------------------------------------------ derived
     @property
@@ -71,8 +76,26 @@ class Result:
 
     @property
     def complete(self):
-        """False when the run was cancelled or stopped early (partial result)."""
-        return bool(self.meta.get("complete", False))
+        """False when the run was cancelled or stopped early (partial result), or when a
+        check found it wrong (a warning of a kind in ``validity.FAILING_KINDS``, e.g. an
+        energy balance that fails)."""
+        from .validity import FAILING_KINDS
+
+        if not self.meta.get("complete", False):
+            return False
+        return not any(w.get("kind") in FAILING_KINDS for w in self.warnings)
+
+    @property
+    def status(self):
+        """One word or phrase for people: 'completed', the stop reason, or why a finished
+        run is not to be trusted ('failed check: energy-balance')."""
+        from .validity import FAILING_KINDS
+
+        reason = str(self.meta.get("stop_reason", ""))
+        if not self.meta.get("complete", False):
+            return reason or "incomplete"
+        failed = sorted({w.get("kind") for w in self.warnings if w.get("kind") in FAILING_KINDS})
+        return f"failed check: {', '.join(failed)}" if failed else (reason or "completed")
 
     def energy_balance_residual(self):
         """[Delta KE - (field work - radiated)] relative to the largest energy in the balance.
@@ -95,11 +118,17 @@ class Result:
         return float(d_ke - (self.field_work[-1] - loss))
 
     def summary(self):
-        """Headline numbers: energies in J, power in W, fractions dimensionless, wall time s."""
+        """Headline numbers: energies in J, power in W, fractions dimensionless, times s.
+
+        ``final_energy`` is the total energy gamma m c^2; ``fraction_lost`` is the energy
+        radiated over the initial kinetic energy (for an undamped run: what it would radiate).
+        """
         ke0 = self.kinetic_energy[0]
         steps = self.meta.get("steps", 0)
         wall = self.meta.get("wall_time", float("nan"))
         return {
+            "end_time": float(self.t[-1]),
+            "initial_kinetic_energy": float(ke0),
             "final_energy": float(self.gamma[-1] * self.rest_energy),
             "final_kinetic_energy": float(self.kinetic_energy[-1]),
             "energy_radiated": float(self.radiated_energy[-1]),
@@ -128,6 +157,8 @@ class Result:
                 for name, unit in ARRAYS.items():
                     ds = h5.create_dataset(name, data=getattr(self, name))
                     ds.attrs["unit"] = unit
+                if self.photons is not None:
+                    self.photons.to_group(h5.create_group("photons"))
         return path
 
     def to_csv(self, path):
@@ -138,8 +169,9 @@ class Result:
                                    self.field_work, self.chi, self.dt])
         with atomic_path(path) as tmp:
             with open(tmp, "w", newline="", encoding="utf-8") as fh:
-                fh.write(f"# radorbit result: {self.scenario.title or 'untitled'}; "
-                         f"complete={self.complete}; stop_reason={self.meta.get('stop_reason', '')}\n")
+                # json quoting keeps a multi-line or comma-laden title on the one comment line
+                fh.write(f"# radorbit result: {json.dumps(self.scenario.title or 'untitled')}; "
+                         f"complete={self.complete}; status={json.dumps(self.status)}\n")
                 writer = csv.writer(fh)
                 writer.writerow(header)
                 for row in columns:
@@ -147,25 +179,98 @@ class Result:
         return path
 
 
+#: shape of each saved array after its first axis (n saved states)
+ARRAY_TRAILING_SHAPES = {"x": (3,), "u": (3,)}
+
+
+def validated_arrays(arrays, source="result", names=None):
+    """Check every saved array against the format: float64-convertible real numbers,
+    shape (n,) or (n, 3), the same n >= 1 for all, t non-decreasing. Returns float64
+    C-contiguous copies; raises ScenarioError naming the array. Nothing from a file
+    reaches a compiled analysis without passing here."""
+    from .errors import ScenarioError
+
+    out = {}
+    n = None
+    for name in names or ARRAYS:
+        if name not in arrays:
+            raise ScenarioError(source, f"the array {name!r} is missing.")
+        raw = np.asarray(arrays[name])
+        if raw.dtype.kind not in "fiu":
+            raise ScenarioError(source, f"the array {name!r} holds {raw.dtype} values, not real numbers.")
+        want = ARRAY_TRAILING_SHAPES.get(name, ())
+        if raw.ndim != 1 + len(want) or raw.shape[1:] != want:
+            shape = "(n, 3)" if want else "(n,)"
+            raise ScenarioError(source, f"the array {name!r} has shape {raw.shape}, not {shape}.")
+        if n is None:
+            n = raw.shape[0]
+        if raw.shape[0] != n or n < 1:
+            raise ScenarioError(source, f"the array {name!r} has {raw.shape[0]} saved states, not {n} like 't'"
+                                        if n else "there are no saved states.")
+        out[name] = np.ascontiguousarray(raw, dtype=np.float64)
+    t = out["t"]
+    if np.any(~np.isfinite(t)) or np.any(np.diff(t) < 0):
+        raise ScenarioError(source, "the times 't' are not finite and non-decreasing.")
+    return out
+
+
 def load_result(path):
     """Read a Result (``Result.to_hdf5``) or a BeamResult (``BeamResult.to_hdf5``) from .h5,
-    chosen by the file's ``format`` attribute."""
+    chosen by the file's ``format`` attribute.
+
+    Every array of a Result is checked against the format (``validated_arrays``); a file of a newer
+    format version, another format, or a damaged one raises ScenarioError (one line,
+    naming the file).
+    """
     import h5py
 
-    from .beam_result import FORMAT as BEAM_FORMAT
+    from .errors import ScenarioError
     from .scenario import Scenario
 
-    with h5py.File(path, "r") as h5:
+    where = f"result file {str(path)!r}"
+    if Path(path).suffix.lower() == ".csv":
+        raise ScenarioError(where, "is a CSV table; reading a result back needs the HDF5 file "
+                                   "(radorbit run -o name.h5), which keeps the scenario with the arrays.")
+    try:
+        h5 = h5py.File(path, "r")
+    except (OSError, ValueError) as exc:
+        raise ScenarioError(where, f"cannot be opened as HDF5 ({exc}).") from None
+    with h5:
         file_format = h5.attrs.get("format")
+    from .beam_result import FORMAT as BEAM_FORMAT
+
     if file_format == BEAM_FORMAT:
         from .beam_result import load_beam_result
 
         return load_beam_result(path)
-    with h5py.File(path, "r") as h5:
+    h5 = h5py.File(path, "r")
+    with h5:
         if file_format != FORMAT:
-            raise ValueError(f"{path}: not a radorbit result file.")
-        arrays = {name: h5[name][()] for name in ARRAYS}
-        scenario = Scenario.from_toml(str(h5.attrs["scenario_toml"]))
-        meta = json.loads(h5.attrs["meta_json"])
-        warnings = json.loads(h5.attrs["warnings_json"])
-    return Result(scenario=scenario, meta=meta, warnings=warnings, **arrays)
+            raise ScenarioError(where, "is not a radorbit result file.")
+        version = h5.attrs.get("format_version")
+        try:
+            version = int(version)
+        except (TypeError, ValueError):
+            raise ScenarioError(where, f"has no readable format_version ({version!r}).") from None
+        if version > FORMAT_VERSION:
+            raise ScenarioError(where, f"has format version {version}, newer than this radorbit reads "
+                                       f"({FORMAT_VERSION}); update radorbit to read it.")
+        try:
+            raw = {name: h5[name][()] for name in ARRAYS if name in h5 and isinstance(h5[name], h5py.Dataset)}
+            toml = h5.attrs["scenario_toml"]
+            meta = json.loads(h5.attrs["meta_json"])
+            warnings = json.loads(h5.attrs["warnings_json"])
+            photons = None
+            if "photons" in h5:
+                from .photons import PhotonTable
+
+                photons = PhotonTable.from_group(h5["photons"])
+        except (KeyError, OSError, ValueError, TypeError) as exc:
+            raise ScenarioError(where, f"is damaged or incomplete ({exc}).") from None
+    arrays = validated_arrays(raw, where)
+    if isinstance(toml, bytes):
+        toml = toml.decode("utf-8", errors="replace")
+    scenario = Scenario.from_toml(str(toml))
+    if not isinstance(meta, dict) or not isinstance(warnings, list):
+        raise ScenarioError(where, "has metadata of the wrong form.")
+    return Result(scenario=scenario, meta=meta, warnings=warnings, photons=photons, **arrays)

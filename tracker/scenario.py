@@ -4,7 +4,8 @@ Files and the Python API share one schema::
 
     title = "optional"
     [run]       duration, dt | steps_per_period, pusher, radiation_reaction, save_every, max_steps,
-                save = "all" | "statistics", snapshots = [times]
+                save = "all" | "statistics", snapshots = [times],
+                seed (stochastic models), photon_min_energy (photon record threshold)
     [particle]  species (+ charge_state, mass_number | mass, charge), position,
                 one of gamma | kinetic_energy | speed | momentum | u, direction
     [beam]      instead of [particle]: the [particle] keys for the centroid, then count, seed,
@@ -19,7 +20,6 @@ field registry. The text a user typed with units is kept beside the SI value
 
 import dataclasses
 import math
-import tomllib
 from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
@@ -30,10 +30,11 @@ from . import constants as k
 from . import species as sp
 from . import inputs
 from .config import DATA_OFFSET_SLOT, DEFAULT_MAX_STEPS, FIELD_PARAMS
-from .errors import ScenarioError
+from .errors import ScenarioError, brief
 from .fields import MODELS as FIELD_MODELS
 from .fields.base import ABSENT, REQUIRED, unit_vector
 from .inputs import SPECIES_NAMES  # noqa: F401  (re-exported: the lab reads it from here)
+from .units import parse_scalar
 
 MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed", "momentum", "u")
 SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
@@ -41,7 +42,7 @@ SCALAR_MOMENTUM_KEYS = ("gamma", "kinetic_energy", "speed")
 RUN_KEYS = tuple(inputs.RUN)
 PARTICLE_KEYS = tuple(inputs.PARTICLE)
 BEAM_KEYS = tuple(inputs.BEAM)
-TOP_KEYS = ("title", "description", "run", "particle", "beam", "field")
+TOP_KEYS = ("title", "description", "run", "particle", "beam", "field", "sweep")
 
 
 @dataclass(frozen=True)
@@ -60,6 +61,8 @@ class RunSpec:
     dt_max: float | None = None
     save: str = "all"
     snapshots: tuple = ()  #: times (s) of full particle dumps
+    seed: int | None = None                  #: random-number seed of stochastic models (None: 0)
+    photon_min_energy: float | None = None   #: J; photons below it are not recorded (None: 0, all)
 
 
 @dataclass(frozen=True)
@@ -83,13 +86,15 @@ class ParticleSpec:
         mc = self.mass * k.c
         if key == "u":
             return np.array(value, dtype=float)
-        if key == "momentum":
+        if key == "momentum" and isinstance(value, tuple):
             return np.array(value, dtype=float) / mc
         if key == "gamma":
             magnitude = math.sqrt(value * value - 1.0)
         elif key == "kinetic_energy":
             g = 1.0 + value / (self.mass * k.c**2)
             magnitude = math.sqrt(g * g - 1.0)
+        elif key == "momentum":  # a scalar |p| with a direction
+            magnitude = value / mc
         else:  # speed
             beta = value / k.c
             magnitude = beta / math.sqrt(1.0 - beta * beta)
@@ -166,6 +171,7 @@ class Scenario:
     description: str = ""
     beam: BeamSpec | None = None
     entered: tuple = ()
+    sweep: object = None  #: tracker.scan.spec.SweepSpec of a [sweep] table (a scan), or None
     base_dir: str | None = field(default=None, compare=False)
 
     # ------------------------------------------------------------------ building
@@ -202,26 +208,31 @@ class Scenario:
         scenario = cls(
             run=run,
             particle=particle,
-            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i) for i, f in enumerate(raw_fields)),
+            fields=tuple(_parse_field(_table(f, f"field[{i}]"), i, base_dir) for i, f in enumerate(raw_fields)),
             title=data.get("title", ""),
             description=data.get("description", ""),
             beam=beam,
             entered=_entered(data),
+            sweep=_parse_sweep(data),
             base_dir=base_dir,
         )
+        from .plausibility import check_plausible
+
+        check_plausible(scenario, data)
         if beam is not None:
             scenario.initial_particles()  # sampling limits (gamma >= 1) belong to validation
         scenario.plan()  # resolution and size checks belong to validation
+        if scenario.sweep is not None:
+            scenario.sweep.check_keys(scenario)
         return scenario
 
     @classmethod
     def from_toml(cls, text, base_dir=None):
-        """Parse TOML text; syntax errors become ScenarioError. ``base_dir`` as in ``from_dict``."""
-        try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise ScenarioError("", f"not valid TOML: {exc}") from None
-        return cls.from_dict(data, base_dir=base_dir)
+        """Parse TOML text; syntax errors, absurd nesting and size become ScenarioError.
+        ``base_dir`` as in ``from_dict``."""
+        from .plausibility import toml_table
+
+        return cls.from_dict(toml_table(text), base_dir=base_dir)
 
     def to_dict(self, as_entered=False):
         """Plain nested dict in SI; ``from_dict(to_dict())`` gives the same physics.
@@ -242,12 +253,14 @@ class Scenario:
         else:
             out["beam"] = _beam_dict(self.beam, self.particle)
         out["field"] = [
-            {"type": f.type, **{name: list(v) if isinstance(v, tuple) else v for name, v in f.values}}
+            {"type": f.type, **{name: _raw_value(f.model.param(name), v) for name, v in f.values}}
             for f in self.fields
         ]
         if as_entered:
             for path, raw in self.entered:
                 _put(out, path, _thaw(raw))
+        if self.sweep is not None:
+            out["sweep"] = self.sweep.to_dict()
         return out
 
     def to_toml(self):
@@ -325,19 +338,37 @@ class Scenario:
                 params[i, DATA_OFFSET_SLOT] = float(offset)
                 blocks.append(block)
                 offset += block.size
-        data = np.concatenate(blocks) if blocks else np.zeros(1)
+        if len(blocks) == 1:
+            data = blocks[0]  # one (possibly large) map or program is used as loaded: no copy
+        else:
+            data = np.concatenate(blocks) if blocks else np.zeros(1)
         for a in (kinds, params, data):
             a.setflags(write=False)
         return kinds, params, data
 
-    def fields_at(self, x, t):
-        """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and one time t in s.
+    @property
+    def field_data_bytes(self):
+        """Bytes of the field models' bulk data (maps, formula programs) kept for a run."""
+        return sum(int(f.model.data_bytes(f.params, self.base_dir)) for f in self.fields
+                   if f.model.data_bytes is not None)
 
+    def fields_at(self, x, t):
+        """E (V/m) and B (T), each (n, 3), at positions x (n, 3) in m and time t in s.
+
+        ``t`` is one time for all positions or one time per position (shape (n,)).
         Uses the same compiled evaluator as the pusher.
         """
         from .fields.evaluate import evaluate
+        from .plausibility import times_for_points
 
-        return evaluate(*self.field_table, x, t)
+        points, times = times_for_points(x, t)
+        if times is None:
+            return evaluate(*self.field_table, points, t if np.ndim(t) == 0 else float(np.asarray(t).ravel()[0]))
+        e, b = np.empty_like(points), np.empty_like(points)
+        for when in np.unique(times):
+            at = times == when
+            e[at], b[at] = evaluate(*self.field_table, points[at], float(when))
+        return e, b
 
     def plan(self):
         """The run plan (dt, steps, saved states, memory); raises ScenarioError if too large."""
@@ -350,14 +381,21 @@ def load_scenario(path):
     """Read and validate a scenario TOML file (path to a .toml file); relative file names
     inside it are resolved against the file's folder."""
     path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ScenarioError("", f"cannot read scenario file {str(path)!r}: {exc.strerror}.") from None
-    return Scenario.from_toml(text, base_dir=path.resolve().parent)
+    from .plausibility import read_scenario_text
+
+    return Scenario.from_toml(read_scenario_text(path), base_dir=path.resolve().parent)
 
 
 # ---------------------------------------------------------------------- parsing helpers
+def _parse_sweep(data):
+    """The optional [sweep] table (tracker.scan.spec); None when absent."""
+    if "sweep" not in data:
+        return None
+    from .scan.spec import parse_sweep_table
+
+    return parse_sweep_table(data["sweep"])
+
+
 def _table(value, key):
     if not isinstance(value, dict):
         raise ScenarioError(key, f"must be a table, not {value!r}.")
@@ -379,8 +417,8 @@ def _merge(data, section, changes):
 
 
 def _choice(value, choices, key):
-    if value not in choices:
-        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {value!r}.")
+    if not isinstance(value, str) or value not in choices:
+        raise ScenarioError(key, f"must be one of {', '.join(map(repr, choices))}, not {brief(value)}.")
     return value
 
 
@@ -396,6 +434,8 @@ def _parse_run(raw):
     if "dt" in raw and "steps_per_period" in raw:
         raise ScenarioError("run.dt", "give either dt or steps_per_period, not both.")
     run = RunSpec(**_parse_inputs(raw, inputs.RUN, "run"))
+    if run.seed is not None and run.seed >= 2**53:
+        raise ScenarioError("run.seed", f"must be below 2**53 (exact in the kernel's float64 plan row), not {run.seed!r}.")
     if not run.adaptive:
         for key in ("dt_min", "dt_max"):
             if getattr(run, key) is not None:
@@ -455,9 +495,15 @@ def _parse_particle(raw, section="particle"):
             f"give exactly one of {', '.join(MOMENTUM_KEYS)}" + (f", not {', '.join(given)}." if given else "."),
         )
     key = given[0]
-    value = inputs.PARTICLE[key].parse(raw[key], f"{section}.{key}")
+    scalar_momentum = key == "momentum" and not isinstance(raw[key], (list, tuple))
+    if scalar_momentum:   # |p| with a direction, like the other scalar momentum keys
+        value = parse_scalar(raw[key], "momentum", f"{section}.{key}")
+        if not value >= 0.0:
+            raise ScenarioError(f"{section}.{key}", f"must not be negative, not {brief(raw[key])}.")
+    else:
+        value = inputs.PARTICLE[key].parse(raw[key], f"{section}.{key}")
     direction = None
-    if key in SCALAR_MOMENTUM_KEYS:
+    if key in SCALAR_MOMENTUM_KEYS or scalar_momentum:
         if "direction" not in raw:
             raise ScenarioError(f"{section}.direction",
                                 f"is required with {key} (a vector; it is normalised for you).")
@@ -583,13 +629,21 @@ def _put(data, path, value):
         data[section][key] = value
 
 
-def _parse_field(raw, index):
+def _raw_value(param, value):
+    """A parsed field value as a scenario file holds it (lists for vectors, a table for tables)."""
+    if param.kind == "table":
+        return dict(value)
+    return list(value) if isinstance(value, tuple) else value
+
+
+def _parse_field(raw, index, base_dir=None):
     key = f"field[{index}]"
     if "type" not in raw:
         raise ScenarioError(f"{key}.type", f"is required; one of {', '.join(FIELD_MODELS)}.")
-    model = FIELD_MODELS.get(raw["type"])
+    model = FIELD_MODELS.get(raw["type"]) if isinstance(raw["type"], str) else None
     if model is None:
-        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, not {raw['type']!r}.")
+        raise ScenarioError(f"{key}.type", f"must be one of {', '.join(map(repr, FIELD_MODELS))}, "
+                                           f"not {brief(raw['type'])}.")
     allowed = ("type",) + tuple(p.name for p in model.params)
     _reject_unknown(raw, allowed, key)
     values = []
@@ -602,4 +656,6 @@ def _parse_field(raw, index):
             values.append((param.name, param.default))
     if model.check is not None:
         model.check(dict(values), key)
+    if model.resolve is not None:
+        model.resolve(dict(values), key, base_dir)
     return FieldSpec(model.name, tuple(values))

@@ -22,9 +22,16 @@ Leapfrog layout: x at integer steps, u = gamma v/c at half steps. Step n of part
    at, so a magnetic rotation does not shorten the friction by cos(theta/2);
 4. diagnostics at t^n: the synchronous state gamma = (gamma^{n-1/2} + gamma^{n+1/2})/2
    with u along u^{n-1/2} + u^{n+1/2} (rescaled to that gamma), Lienard power (times
-   g(chi) for the quantum-corrected model), chi, q E.v; cumulative radiated energy
-   and field work by the trapezoidal rule;
+   g(chi) for the quantum-corrected and stochastic models: the mean power), chi, q E.v;
+   cumulative radiated energy and field work by the trapezoidal rule;
 5. x^{n+1} = x^n + c dt^n u^{n+1/2}/gamma^{n+1/2}.
+
+Stochastic model (``quantum-stochastic``): the kicks act only below CHI_STOCHASTIC_MIN; at or
+above it the kernels sample photons after ``advance`` (``radiation.stochastic.emit_step``, not
+inlined: it needs the photon arrays) over the push interval centred on t^n at the synchronous
+chi, take them from u^{n+1/2} (``with_emission``) and their energy enters the radiated energy
+at the next step, whose synchronous gamma is the first to see it all gone: the energy balance
+closes to round-off and the recorded photons add up to the radiated energy.
 
 A particle stops (its status code says why) on a non-finite value, or when the
 radiation kick of one step exceeds ``KICK_LIMIT`` of its momentum: the splitting
@@ -41,22 +48,24 @@ from .config import LEAF
 from .pushers.dispatch import push
 from .radiation.power import chi_parameter, lienard_power, transverse_force_squared
 from .radiation.quantum import gaunt_factor
-from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, radiation_kick
+from .radiation.reaction import LANDAU_LIFSHITZ_QUANTUM, NONE, QUANTUM_STOCHASTIC, radiation_kick
+from .radiation.stochastic import CHI_STOCHASTIC_MIN
 from .timescales import fastest_rate
 
 # ---------------------------------------------------------------- state slots (rows of a (STATE_SIZE, N) array)
 X, U, T, RAD, WORK, PPREV, WPREV, EPREV, BPREV = 0, 3, 6, 7, 8, 9, 10, 11, 14
-STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22
-STATE_SIZE = 23
+STEP, DTPREV, STATUS, SAVED, NEXT_SAVE, GAMMA_HALF = 17, 18, 19, 20, 21, 22  # NEXT_SAVE: step (fixed dt) or time (s, adaptive beams)
+PHPREV = 23   # energy (J) of the photons emitted after the previous step's diagnostics (stochastic model)
+STATE_SIZE = 24
 
 # ---------------------------------------------------------------- species row
-SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE = range(5)
-SPECIES_SIZE = 5
+SP_QM, SP_TAU0, SP_POWER, SP_CHI, SP_CHARGE, SP_RATE = range(6)
+SPECIES_SIZE = 6
 
 # ---------------------------------------------------------------- plan row
 (PL_DT, PL_LAST, PL_SAVE, PL_PUSHER, PL_DAMPING, PL_ADAPTIVE, PL_SPP, PL_DTMIN, PL_DTMAX, PL_TEND,
- PL_GRID, PL_INTERVAL, PL_SEED) = range(13)
-PLAN_SIZE = 13
+ PL_GRID, PL_INTERVAL, PL_SEED, PL_PHOTON_MIN) = range(14)
+PLAN_SIZE = 14
 
 # ---------------------------------------------------------------- particle status codes
 RUNNING, FINISHED, NONFINITE, KICK_TOO_LARGE = 0, 1, 2, 3
@@ -69,13 +78,13 @@ KICK_LIMIT = 0.1
 @njit(**LEAF)
 def species_tuple(sp):
     """The species row (SPECIES_SIZE,) as a tuple."""
-    return (sp[0], sp[1], sp[2], sp[3], sp[4])
+    return (sp[0], sp[1], sp[2], sp[3], sp[4], sp[5])
 
 
 @njit(**LEAF)
 def plan_tuple(pl):
     """The plan row (PLAN_SIZE,) as a tuple."""
-    return (pl[0], pl[1], pl[2], pl[3], pl[4], pl[5], pl[6], pl[7], pl[8], pl[9], pl[10], pl[11], pl[12])
+    return (pl[0], pl[1], pl[2], pl[3], pl[4], pl[5], pl[6], pl[7], pl[8], pl[9], pl[10], pl[11], pl[12], pl[13])
 
 
 @njit(**LEAF)
@@ -84,7 +93,7 @@ def load_state(state, j):
     return (state[0, j], state[1, j], state[2, j], state[3, j], state[4, j], state[5, j], state[6, j],
             state[7, j], state[8, j], state[9, j], state[10, j], state[11, j], state[12, j], state[13, j],
             state[14, j], state[15, j], state[16, j], state[17, j], state[18, j], state[19, j], state[20, j],
-            state[21, j], state[22, j])
+            state[21, j], state[22, j], state[23, j])
 
 
 @njit(**LEAF)
@@ -135,6 +144,7 @@ def advance(sp, pl, s, f, omega):
     saved = s[SAVED]
     next_save = s[NEXT_SAVE]
     g_old = s[GAMMA_HALF]
+    photons_prev = s[PHPREV]
     damping = int(pl[PL_DAMPING])
     adaptive = pl[PL_ADAPTIVE] != 0.0
     grid = pl[PL_GRID] != 0.0
@@ -147,7 +157,7 @@ def advance(sp, pl, s, f, omega):
         save = t >= next_save
         finished = finished or (save and t >= t_end)
     else:
-        save = step - pl[PL_SAVE] * math.floor(step / pl[PL_SAVE]) == 0.0
+        save = step == next_save   # the next saving step (no division in the loop)
     dt = pl[PL_DT]
     landing = False
     target = 0.0
@@ -170,24 +180,31 @@ def advance(sp, pl, s, f, omega):
         dt_push = dt
 
     # push: explicit half kick, Lorentz, half kick at the predicted end state
-    inv_dtp = 1.0 / dt_prev
-    dex = (ex - s[EPREV]) * inv_dtp
-    dey = (ey - s[EPREV + 1]) * inv_dtp
-    dez = (ez - s[EPREV + 2]) * inv_dtp
-    dbx = (bx - s[BPREV]) * inv_dtp
-    dby = (by - s[BPREV + 1]) * inv_dtp
-    dbz = (bz - s[BPREV + 2]) * inv_dtp
-    half = 0.5 * dt_push
-    tau0 = sp[SP_TAU0]
-    cscale = sp[SP_CHI]
-    kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, ux, uy, uz, ex, ey, ez, bx, by, bz,
-                                   dex, dey, dez, dbx, dby, dbz)
     hq = 0.5 * qm * dt_push
     hqc = hq * (1.0 / k.c)
-    lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
-                      hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
-    kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, lx + kax, ly + kay, lz + kaz,
-                                   ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
+    tau0 = sp[SP_TAU0]
+    cscale = sp[SP_CHI]
+    if damping == NONE:
+        kax = kay = kaz = kbx = kby = kbz = 0.0
+        lx, ly, lz = push(int(pl[PL_PUSHER]), ux, uy, uz, hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+    else:
+        inv_dtp = 1.0 / dt_prev
+        dex = (ex - s[EPREV]) * inv_dtp
+        dey = (ey - s[EPREV + 1]) * inv_dtp
+        dez = (ez - s[EPREV + 2]) * inv_dtp
+        dbx = (bx - s[BPREV]) * inv_dtp
+        dby = (by - s[BPREV + 1]) * inv_dtp
+        dbz = (bz - s[BPREV + 2]) * inv_dtp
+        half = 0.5 * dt_push
+        kax, kay, kaz = radiation_kick(damping, half, qm, tau0, cscale, g_old, ux, uy, uz, ex, ey, ez, bx, by, bz,
+                                       dex, dey, dez, dbx, dby, dbz)
+        lx, ly, lz = push(int(pl[PL_PUSHER]), ux + kax, uy + kay, uz + kaz,
+                          hqc * ex, hqc * ey, hqc * ez, hq * bx, hq * by, hq * bz)
+        px = lx + kax
+        py = ly + kay
+        pz = lz + kaz
+        kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, math.sqrt(1.0 + px * px + py * py + pz * pz),
+                                       px, py, pz, ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
     nux = lx + kbx
     nuy = ly + kby
     nuz = lz + kbz
@@ -216,8 +233,8 @@ def advance(sp, pl, s, f, omega):
         f2 = transverse_force_squared(betax, betay, betaz, ex, ey, ez, bx, by, bz)
         power = lienard_power(sp[SP_POWER], gs, f2)
         chi = chi_parameter(cscale, gs, f2)
-        if damping == LANDAU_LIFSHITZ_QUANTUM:
-            power *= gaunt_factor(chi)
+        if damping == LANDAU_LIFSHITZ_QUANTUM or damping == QUANTUM_STOCHASTIC:
+            power *= gaunt_factor(chi)   # the mean power, for the stochastic model too
         usx = betax * gs
         usy = betay * gs
         usz = betaz * gs
@@ -226,16 +243,24 @@ def advance(sp, pl, s, f, omega):
             status = NONFINITE
     if status == RUNNING:
         work_rate = sp[SP_CHARGE] * k.c * (ex * betax + ey * betay + ez * betaz)
+        # the power the radiated-energy integral counts: none where sampled photons carry the loss
+        counted = 0.0 if (damping == QUANTUM_STOCHASTIC and chi >= CHI_STOCHASTIC_MIN) else power
         if step > 0.0:
-            radiated += 0.5 * dt_prev * (power + p_prev)
+            radiated += 0.5 * dt_prev * (counted + p_prev)
             work += 0.5 * dt_prev * (work_rate + w_prev)
-        p_prev = power
+        # photons emitted after the last step's diagnostics: the synchronous gamma of this step is
+        # the first to see all of their energy gone
+        radiated += photons_prev
+        photons_prev = 0.0
+        p_prev = counted
         w_prev = work_rate
         recorded = save or finished
         if recorded:
             saved += 1.0
             if grid:
                 next_save = min(saved * pl[PL_INTERVAL], t_end)
+        if save and not grid:
+            next_save += pl[PL_SAVE]
         if finished:
             status = FINISHED
     if status == RUNNING:
@@ -248,9 +273,18 @@ def advance(sp, pl, s, f, omega):
             status = NONFINITE
         else:
             s = (nx, ny, nz, nux, nuy, nuz, target if landing else t + dt, radiated, work, p_prev, w_prev,
-                 ex, ey, ez, bx, by, bz, step + 1.0, dt, float(status), saved, next_save, g_new)
+                 ex, ey, ez, bx, by, bz, step + 1.0, dt, float(status), saved, next_save, g_new, photons_prev)
     if status != RUNNING:
         # the position and momentum stay at the last good state; the sums include this step if it was good
         s = (x, y, z, ux, uy, uz, t, radiated, work, p_prev, w_prev, s[EPREV], s[EPREV + 1], s[EPREV + 2],
-             s[BPREV], s[BPREV + 1], s[BPREV + 2], step, dt_prev, float(status), saved, next_save, g_old)
+             s[BPREV], s[BPREV + 1], s[BPREV + 2], step, dt_prev, float(status), saved, next_save, g_old,
+             photons_prev)
     return s, recorded, t, usx, usy, usz, gs, power, chi, dt
+
+
+@njit(**LEAF)
+def with_emission(s, ux, uy, uz, photon_energy):
+    """State tuple ``s`` (after ``advance``) with u^{n+1/2} = (ux, uy, uz) after photon emission and the
+    photons' energy (J) kept in PHPREV for the next step's radiated-energy sum."""
+    return (s[0], s[1], s[2], ux, uy, uz, s[6], s[7], s[8], s[9], s[10], s[11], s[12], s[13], s[14], s[15], s[16],
+            s[17], s[18], s[19], s[20], s[21], math.sqrt(1.0 + ux * ux + uy * uy + uz * uz), photon_energy)

@@ -25,6 +25,8 @@ def _value(v):
         return json.dumps(v, ensure_ascii=False)
     if isinstance(v, (list, tuple)):
         return "[" + ", ".join(_value(x) for x in v) + "]"
+    if isinstance(v, dict):  # inline table; keys are identifiers (checked by the schema)
+        return "{" + ", ".join(f"{key} = {_value(x)}" for key, x in v.items()) + "}"
     raise TypeError(f"cannot write {v!r} to TOML")
 
 
@@ -52,4 +54,7 @@ def scenario_toml(data):
         model = FIELD_MODELS[f["type"]]
         units = {p.name: p.unit for p in model.params}
         lines += ["", "[[field]]", *_lines(f, units)]
+    if "sweep" in data:
+        lines += ["", "[sweep]", f"grid = {_value(data['sweep']['grid'])}", "", "[sweep.vary]"]
+        lines += [f"{json.dumps(key)} = {_value(values)}" for key, values in data["sweep"]["vary"].items()]
     return "\n".join(lines) + "\n"

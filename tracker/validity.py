@@ -13,7 +13,8 @@ resolution
     ``MAX_LOSS_PER_STEP`` of the energy in one step.
 quantum
     The quantum parameter chi exceeds ``CHI_QUANTUM``: classical emission is
-    wrong and emission is stochastic, which this tool does not model.
+    wrong and emission is stochastic (use ``quantum-stochastic``); at chi above
+    ``CHI_PAIRS`` pair creation by the emitted photons matters, which no model here includes.
 radiation-dominated
     R_c = alpha a0 chi >= 1 in a laser (Di Piazza et al. 2012), or the particle
     radiates more than its energy per period of its motion.
@@ -22,6 +23,17 @@ domain
     undulator mid-plane, large-aspect-ratio tokamak, far field of a dipole).
 nonfinite
     The run stopped on a NaN or Inf; the last good state is kept.
+energy-balance
+    Delta KE - (field work - radiated energy) exceeds ``ENERGY_BALANCE_LIMIT`` of the
+    largest energy in the balance: the integration is wrong, not merely inexact. Such a
+    result is not complete (``Result.complete`` is False; the CLI exits 3).
+precision
+    The damped run radiated less than double precision can resolve in gamma: the orbit
+    cannot show the damping, although the radiated energy is still computed correctly.
+
+The plan's own warnings (``RunPlan.warnings``: the step against the fastest initial time
+scale, from the same resolution the plan chose) are carried by every run whose saved
+states did not already show the under-resolution.
 
 Checks see only the saved states (``run.save_every``): an excursion between two
 saved states goes unnoticed. Fields are recomputed at the saved states with the
@@ -52,12 +64,15 @@ MAX_PHASE_ERROR = 0.01
 #: steps per period below which "resolution" is raised: 2 pi/sqrt(12 MAX_PHASE_ERROR) ~ 18.
 MIN_STEPS_PER_PERIOD = 2.0 * math.pi / math.sqrt(12.0 * MAX_PHASE_ERROR)
 #: largest energy fraction radiation reaction may remove in one step: the damping is
-#: split from the Lorentz push, which needs a small change per step (physics-reference
-#: sec. 3 requirements; common practice, no source).
+#: split from the Lorentz push, which needs a small change per step (common practice,
+#: no source).
 MAX_LOSS_PER_STEP = 0.01
 #: chi above which quantum emission matters: g(0.1) = 0.65, and emission is
 #: stochastic (Ridgers et al. 2017; Niel et al. 2018; common practice).
 CHI_QUANTUM = 0.1
+#: chi from which the photons' own chi is of order one and pair creation by them (nonlinear
+#: Breit-Wheeler) matters (Di Piazza et al. 2012, from memory; common practice).
+CHI_PAIRS = 1.0
 #: R_c = alpha a0 chi at which radiation reaction dominates (Di Piazza et al. 2012).
 R_C_DOMINATED = 1.0
 #: energy radiated per period of the motion, as a fraction of the energy, at which the
@@ -67,8 +82,9 @@ LOSS_PER_PERIOD_DOMINATED = 1.0
 #: a laser counts as present where its field exceeds this fraction of its peak.
 LASER_PRESENT = 1e-2
 
-#: paraxial mirror: largest r/L. The vacuum field differs by B0 r^2/(2 L^2)
-#: (physics-reference sec. 10), 0.5 % of B0 at r/L = 0.1.
+#: paraxial mirror: largest r/L. The next order of the paraxial expansion of a vacuum
+#: field with Bz(0, z) = B0 (1 + z^2/L^2) adds -B0 r^2/(2 L^2) to Bz [derived from
+#: div B = 0 and curl B = 0 to second order in r], 0.5 % of B0 at r/L = 0.1.
 MIRROR_MAX_R_OVER_L = 0.1
 #: undulator: largest |k y|; cosh(k y) - 1 = 10 % there (common practice, no source).
 UNDULATOR_MAX_KY = math.acosh(1.1)
@@ -80,11 +96,45 @@ TOKAMAK_MAX_EPSILON = 1.0 / 3.0
 #: unknown size; common practice, no source).
 DIPOLE_MIN_FRACTION = 0.1
 
+#: energy-balance residual (relative to the largest energy in the balance) above which a
+#: run is flagged and not complete. Runs that resolve their time scales close the balance
+#: to 1e-6 or better (bundled scenarios: tests/test_trust_run.py); 1 % means the step or the
+#: damping went wrong (common practice, no source).
+ENERGY_BALANCE_LIMIT = 1e-2
+#: smallest radiated fraction of the energy the orbit can show: each step rounds gamma
+#: with a relative error ~ eps = 2.2e-16 and the errors add like a random walk, ~ sqrt(N)
+#: eps after N steps [derived]; the damping must exceed that by ``PRECISION_MARGIN`` to be
+#: seen, and never less than ``PRECISION_FLOOR`` = 1e4 eps ~ 2e-12 (common practice, no
+#: source; on the bundled radiation-belt scenario gamma rose by 1.5e-14 while 2e-13 of
+#: the energy was radiated).
+PRECISION_FLOOR = 1e4 * float(np.finfo(float).eps)
+PRECISION_MARGIN = 10.0
+#: warning kinds after which a result is not complete (see ``Result.complete``).
+FAILING_KINDS = ("energy-balance",)
 
 
 def warning(kind, message, time):
     """One warning record: kind (str), message (str), time (s, float)."""
     return {"kind": kind, "message": message, "time": float(time)}
+
+
+def format_count(x):
+    """A step count or steps-per-period for a message: a whole number when it is one a
+    person would type, else 3 significant digits (never a 70-digit integer)."""
+    if not math.isfinite(x):
+        return str(x)
+    if abs(x) < 1e6:
+        return f"{math.ceil(x):d}"
+    return f"{x:.3g}"
+
+
+def format_fraction(x):
+    """A fraction as a percentage up to 1000 %, beyond that as 'N times'."""
+    if not math.isfinite(x):
+        return str(x)
+    if abs(x) <= 10.0:
+        return f"{x:.2%}"
+    return f"{x:.3g} times"
 
 
 def laser_rows(scenario):
@@ -93,7 +143,7 @@ def laser_rows(scenario):
 
     rows = []
     for i, f in enumerate(scenario.fields):
-        if f.type != "plane-wave":
+        if f.type not in ("plane-wave", "gaussian-beam"):
             continue
         v = f.params
         omega = 2.0 * math.pi * k.c / v["wavelength"]
@@ -137,17 +187,74 @@ def check_result(result):
         ``{"kind": str, "message": str, "time": float (s)}``, kinds "resolution",
         "quantum", "radiation-dominated", "domain", "nonfinite".
     """
-    found = check_nonfinite(result)
+    found = check_nonfinite(result) + check_outside(result) + field_advice(result.scenario)
     good = _finite_states(result)
     if not np.any(good):
-        return found
+        return found + plan_warnings(result, [])
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         rates = rates_along(result)
-        found += check_resolution(result, rates, good)
+        resolution = check_resolution(result, rates, good)
+        found += plan_warnings(result, resolution) + resolution
+        found += check_energy_balance(result)
+        found += check_precision(result)
         found += check_quantum(result, good)
         found += check_radiation_dominated(result, rates, good)
         found += check_domain(result, good)
     return found
+
+
+def plan_warnings(result, resolution):
+    """The plan's warnings (step against the fastest initial time scale), unless the
+    saved states already showed an under-resolved period (a more precise warning)."""
+    if any("steps per period" in w["message"] for w in resolution):
+        return []
+    try:
+        plan = result.scenario.plan()
+    except ValueError:
+        return []
+    return [dict(w) for w in getattr(plan, "warnings", ())]
+
+
+def check_energy_balance(result):
+    """'energy-balance': Delta KE - (field work - radiated) above ``ENERGY_BALANCE_LIMIT``."""
+    residual = result.energy_balance_residual()
+    if not (math.isfinite(residual) and abs(residual) <= ENERGY_BALANCE_LIMIT):
+        ke = result.kinetic_energy
+        return [warning(
+            "energy-balance",
+            f"the energy balance fails: the kinetic energy changed by {_joules(ke[-1] - ke[0])} while the "
+            f"fields did {_joules(result.field_work[-1])} of work and {_joules(result.radiated_energy[-1])} "
+            f"was radiated (residual {residual:.3g} of the largest energy, limit {ENERGY_BALANCE_LIMIT:g}). "
+            "The integration is wrong, typically a step far too coarse for the radiation-reaction kick: "
+            "the result is marked not complete. Advice: refine the step (run.steps_per_period, run.dt or "
+            "run.dt_max) until the residual is small.",
+            result.t[-1])]
+    return []
+
+
+def _joules(value):
+    from .plausibility import format_ev
+
+    return format_ev(value / k.e, 4)
+
+
+def check_precision(result):
+    """'precision': a damped run whose radiated fraction is below what gamma can resolve."""
+    if result.scenario.run.radiation_reaction == "none" or len(result.t) < 2:
+        return []
+    energy = float(result.gamma[0]) * result.rest_energy
+    radiated = float(result.radiated_energy[-1])
+    steps = max(1, int(result.meta.get("steps", len(result.t))))
+    floor = max(PRECISION_FLOOR, PRECISION_MARGIN * math.sqrt(steps) * float(np.finfo(float).eps))
+    if not (energy > 0 and 0.0 < radiated < floor * energy):
+        return []
+    return [warning(
+        "precision",
+        f"the particle radiates only {radiated / energy:.3g} of its energy, below what double precision "
+        f"resolves in gamma after {steps:,} steps (~{floor:.1g}): the orbit and gamma(t) cannot show the "
+        "damping (round-off dominates their change), but the radiated energy and power are computed "
+        "correctly. Compare radiated energies, not orbits, at this level.",
+        result.t[-1])]
 
 
 def _finite_states(result):
@@ -159,6 +266,29 @@ def _finite_states(result):
     for a in arrays:
         good &= np.isfinite(a)
     return good
+
+
+def check_outside(result):
+    """'domain' when the run stopped because the particle left a field's domain (e.g. a map's grid)."""
+    from .engine import STOP_LEFT_DOMAIN
+
+    reason = str(result.meta.get("stop_reason", ""))
+    if not reason.startswith(STOP_LEFT_DOMAIN):
+        return []
+    t_last = float(result.t[-1]) if len(result.t) else 0.0
+    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {reason}. Enlarge the map, or choose "
+                              "outside = \"zero\" to continue without its field.", t_last)]
+
+
+def field_advice(scenario):
+    """Warnings the field models give before any run (``FieldModel.advice``), dated t = 0."""
+    found = []
+    for i, f in enumerate(scenario.fields):
+        if f.model.advice is None:
+            continue
+        for kind, message in f.model.advice(f.params, scenario):
+            found.append(warning(kind, f"field[{i}] ({f.model.label}): {message}", 0.0))
+    return found
 
 
 def check_nonfinite(result):
@@ -182,26 +312,26 @@ def _advice_for_step(result, factor, dt_bound=None, dt_used=None):
     its floor needs a lower ``run.dt_min`` rather than more steps per period.
     """
     run = result.scenario.run
-    meta = result.meta
-    spp = meta.get("steps_per_period") or run.steps_per_period
+    plan = result.scenario.plan()   # the resolution the run used, from the plan itself
+    spp = plan.steps_per_period
     if dt_bound is not None:
         if run.adaptive:
             return (f"set run.dt_max <= {dt_bound:.3g} s (the adaptive step follows the orbit's time scales, "
                     "not the cooling)")
-        if run.dt is None and spp and meta.get("dt"):
+        if run.dt is None and spp:
             return (f"use a step <= {dt_bound:.3g} s: raise run.steps_per_period to >= "
-                    f"{math.ceil(spp * meta['dt'] / dt_bound)} (now {spp:.3g})")
+                    f"{format_count(spp * plan.dt / dt_bound)} (now {spp:.3g})")
         return f"set run.dt <= {dt_bound:.3g} s"
     if run.adaptive:
-        floor = result.scenario.plan().dt_min
+        floor = plan.dt_min
         if dt_used is not None and dt_used <= floor * (1.0 + 1e-9):
             return (f"the step sat at its floor run.dt_min = {floor:.3g} s; lower dt_min to <= "
                     f"{floor / factor:.3g} s")
-        return f"raise run.steps_per_period to >= {math.ceil(spp * factor) if spp else 'more'}"
+        return f"raise run.steps_per_period to >= {format_count(spp * factor) if spp else 'more'}"
     if run.dt is not None:
         return (f"lower run.dt to <= {run.dt / factor:.3g} s, or set run.adaptive = true so that the step "
                 "follows the local time scale")
-    target = math.ceil(spp * factor) if spp else None
+    target = format_count(spp * factor) if spp else "more"
     return (f"raise run.steps_per_period to >= {target} (now {spp:.3g}), or set run.adaptive = true so that "
             "the step follows the local time scale as it changes")
 
@@ -220,25 +350,32 @@ def check_resolution(result, rates, good):
             below = np.count_nonzero(spp < MIN_STEPS_PER_PERIOD) / np.count_nonzero(usable)
             first = int(np.argmax(spp < MIN_STEPS_PER_PERIOD))
             factor = MIN_STEPS_PER_PERIOD / spp[worst]
+            damped = result.scenario.run.radiation_reaction != "none"
+            consequence = "and the damping is misplaced" if damped else "and the orbit drifts out of phase"
             found.append(warning(
                 "resolution",
                 f"the {describe(int(source[worst]), result.scenario.fields)} is resolved by only {spp[worst]:.3g} steps per period at "
                 f"t = {result.t[worst]:.4g} s (worst; {below:.0%} of saved states are below "
                 f"{MIN_STEPS_PER_PERIOD:.0f}, first at t = {result.t[first]:.4g} s). The phase error then exceeds "
-                f"{MAX_PHASE_ERROR:.0%} per period and the damping is misplaced. Advice: "
+                f"{MAX_PHASE_ERROR:.0%} per period {consequence}. Advice: "
                 + _advice_for_step(result, factor, dt_used=dt[worst]) + ".",
                 result.t[worst]))
     if result.scenario.run.radiation_reaction != "none":
         energy = result.gamma * result.rest_energy
         loss = np.zeros(len(dt))
         ok = good & (dt > 0) & (energy > 0)
+        if result.scenario.run.radiation_reaction == "quantum-stochastic":
+            # photons are sampled with sub-steps there, not applied as a split kick
+            from .radiation.stochastic import CHI_STOCHASTIC_MIN
+
+            ok &= result.chi < CHI_STOCHASTIC_MIN
         loss[ok] = result.power[ok] * dt[ok] / energy[ok]
         worst = int(np.argmax(loss))
         if loss[worst] > MAX_LOSS_PER_STEP:
             bound = MAX_LOSS_PER_STEP * energy[worst] / result.power[worst]
             found.append(warning(
                 "resolution",
-                f"radiation reaction removes {loss[worst]:.2%} of the particle's energy in one step at "
+                f"radiation reaction removes {format_fraction(loss[worst])} of the particle's energy in one step at "
                 f"t = {result.t[worst]:.4g} s (limit {MAX_LOSS_PER_STEP:.0%}); the damping is applied as a "
                 "split kick and needs a small change per step. Advice: "
                 + _advice_for_step(result, 1.0, dt_bound=bound) + ".",
@@ -257,6 +394,14 @@ def check_quantum(result, good):
         return []
     g = gaunt_factor(chi_max)
     model = result.scenario.run.radiation_reaction
+    pairs = (f" At chi >= {CHI_PAIRS:g} the emitted photons themselves have chi of order one and a fraction of "
+             "them would create electron-positron pairs (nonlinear Breit-Wheeler; Di Piazza et al. 2012, from "
+             "memory): pair creation is not modelled, so photon numbers and the energy balance are upper "
+             "bounds there." if chi_max >= CHI_PAIRS else "")
+    if model == "quantum-stochastic":
+        if not pairs:
+            return []
+        return [warning("quantum", f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s." + pairs, result.t[i])]
     if model == "landau-lifshitz-quantum":
         what = (f"the corrected-classical model already scales the emitted power by g(chi) = {g:.3g} there, "
                 "but it keeps emission continuous: it misses the stochastic photon emission that broadens "
@@ -265,12 +410,11 @@ def check_quantum(result, good):
         what = (f"the classical emitted power is {1.0 / g:.3g} times the quantum one there (g(chi) = {g:.3g}); "
                 "use radiation_reaction = \"landau-lifshitz-quantum\" for the mean loss. Emission is also "
                 "stochastic (energy spread, straggling)")
-    pairs = " At chi >~ 1 photons may also turn into pairs (from memory: Di Piazza et al. 2012)." if chi_max >= 1 else ""
     return [warning(
         "quantum",
-        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. A stochastic "
-        "(Monte-Carlo) emission treatment is needed for quantitative results; this tool does not provide "
-        "one." + pairs,
+        f"chi peaks at {chi_max:.3g} at t = {result.t[i]:.4g} s (> {CHI_QUANTUM}): {what}. For the energy "
+        "spread, straggling and the photon spectrum use radiation_reaction = \"quantum-stochastic\" "
+        "(Monte-Carlo photon emission, tracker.radiation.stochastic)." + pairs,
         result.t[i])]
 
 
@@ -338,14 +482,15 @@ def _tokamak_excess(v, x, _x0):
 def _dipole_excess(v, x, x0):
     c = np.asarray(v["center"])
     r = np.linalg.norm(x - c, axis=1)
-    r0 = float(np.linalg.norm(x0 - c))
-    frac = r / r0 if r0 > 0 else np.full(len(r), np.inf)
+    r0 = np.linalg.norm(np.asarray(x0, dtype=float) - c, axis=-1)   # (3,) -> scalar, (n, 3) -> per state
+    with np.errstate(divide="ignore", invalid="ignore"):
+        frac = np.where(r0 > 0, r / np.where(r0 > 0, r0, 1.0), np.inf)
     with np.errstate(divide="ignore"):
         excess = DIPOLE_MIN_FRACTION / frac
     return excess, "distance from the centre / starting distance", frac, DIPOLE_MIN_FRACTION
 
 
-#: field type -> function(values, x (n, 3), x0 (3,)) -> (excess > 1 where outside,
+#: field type -> function(values, x (n, 3), x0 (3,) or (n, 3)) -> (excess > 1 where outside,
 #: quantity name, quantity values, limit)
 DOMAIN_CHECKS = {"mirror": _mirror_excess, "undulator": _undulator_excess, "tokamak": _tokamak_excess,
                  "dipole": _dipole_excess}

@@ -36,6 +36,7 @@ CAUTION = ("Research and teaching tool: results are not for radiation-safety or 
            "defer to local regulations and licensed practice.")
 SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
+TAB_SCAN = "Scan"
 
 
 @dataclass
@@ -45,6 +46,7 @@ class LabContext:
     state: LabState
     link: SessionLink
     views: dict = field(default_factory=dict)  #: views by name, once built (for tests and scripts)
+    show_results: object = None  #: callable() that brings the Results tab forward (set by create_app)
 
 
 class Lab(Viewer):
@@ -52,6 +54,7 @@ class Lab(Viewer):
 
     def __init__(self, state, page, tabs, controls, link):
         super().__init__()
+        self.scan = scan
         self.state = state
         self.page = page
         self.tabs = tabs
@@ -79,7 +82,7 @@ def load_initial(state, initial_scenario_path=None):
         state.load_bundled(DEFAULT_SCENARIO)
         state.source_error = f"cannot read {str(path)!r}: {reason}; opened a bundled scenario instead."
         return False
-    return state.load_toml(text, path.name)
+    return state.load_toml(text, path.name, base_dir=path.resolve().parent)
 
 
 def header_html(state):
@@ -134,7 +137,17 @@ def spectrum_tab(context):
 
 
 #: the main area's tabs, in order; a new view is one more entry (built lazily per session)
-TABS = [TabSpec(TAB_FIELDS, fields_tab), TabSpec(TAB_RESULTS, results_tab), TabSpec(TAB_SPECTRUM, spectrum_tab)]
+def scan_tab(context):
+    from .views.scan import ScanTab
+
+    scan = context.views["scan"] = ScanTab(context.state, on_open=context.show_results)
+    context.link.on_gone(scan.cancel)
+    scan.view  # noqa: B018 -- the tab is being shown: build its content now
+    return section_card("Parameter scan (tracker.sweep)", scan)
+
+
+TABS = [TabSpec(TAB_FIELDS, fields_tab), TabSpec(TAB_RESULTS, results_tab), TabSpec(TAB_SCAN, scan_tab),
+        TabSpec(TAB_SPECTRUM, spectrum_tab)]
 
 
 def create_app(initial_scenario_path=None):
@@ -159,11 +172,14 @@ def create_app(initial_scenario_path=None):
                        margin=(6, 6, 4, 6))
     state.param.watch(lambda *_: setattr(header, "object", header_html(state)), ["scenario", "draft"])
 
-    tabs = LazyTabs(TABS, LabContext(state, link))
+    context = LabContext(state, link)
+    tabs = LazyTabs(TABS, context)
 
     def finished():
         if state.comparison is not None and state.status in ("completed", "cancelled", "stopped"):
             tabs.show(TAB_RESULTS)
+
+    context.show_results = finished
 
     controls = RunControls(state, link=link, on_finished=finished)
     sidebar = pn.Column(
@@ -182,6 +198,46 @@ def create_app(initial_scenario_path=None):
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)
     return Lab(state=state, page=page, tabs=tabs, controls=controls, link=link)
+
+
+def port_problem(address, port):
+    """'' when ``address:port`` can be bound, else one line saying why (checked before serving,
+    so that a busy port gives one clear error instead of a traceback after "serving on")."""
+    import errno
+    import socket
+
+    if not 0 < int(port) < 65536:
+        return f"--port {port} is not a TCP port (1-65535)"
+    try:
+        infos = socket.getaddrinfo(address or None, port, type=socket.SOCK_STREAM, flags=socket.AI_PASSIVE)
+    except socket.gaierror as exc:
+        return f"--address {address!r} cannot be resolved ({exc.strerror})"
+    family, kind, proto, _, where = infos[0]
+    with socket.socket(family, kind, proto) as probe:
+        # the server sets SO_REUSEADDR too: a port left in TIME_WAIT is not "in use"
+        probe.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
+        try:
+            probe.bind(where)
+        except OSError as exc:
+            if exc.errno == errno.EADDRINUSE:
+                return (f"port {port} on {address} is already in use (another lab or server?); "
+                        "choose another with --port")
+            return f"cannot listen on {address}:{port} ({exc.strerror})"
+    return ""
+
+
+def browser_problem():
+    """'' when a browser can be opened from here, else why not (``--show``)."""
+    import os
+    import webbrowser
+
+    if sys.platform.startswith("linux") and not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY")):
+        return "no display: DISPLAY and WAYLAND_DISPLAY are unset"
+    try:
+        webbrowser.get()
+    except webbrowser.Error:
+        return "no browser found"
+    return ""
 
 
 def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False, allow_hosts=()):
@@ -204,8 +260,17 @@ def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False, allow_
     if scenario_path is not None and not Path(scenario_path).is_file():
         print(f"radorbit: error: cannot read scenario file {str(scenario_path)!r}", file=sys.stderr)
         return 2
+    problem = port_problem(address, port)
+    if problem:
+        print(f"radorbit: error: {problem}", file=sys.stderr)
+        return 1
     server = LabServer(lambda: create_app(scenario_path), port=port, address=address, allow_hosts=allow_hosts,
                        title=TITLE)
+    if show:
+        problem = browser_problem()
+        if problem:
+            print(f"radorbit lab: cannot open a browser ({problem}); open {server.url} yourself", file=sys.stderr)
+            show = False
     print(f"radorbit lab: serving on {server.url} (Ctrl-C stops); answering to host names "
           f"{', '.join(sorted(server.hosts))}", flush=True)
     server.run(show=show)

@@ -23,14 +23,20 @@ DEFAULT_SCENARIO = "laser_headon_gev.toml"
 
 
 def bundled_scenarios():
-    """{file name: title} of the bundled scenario files, sorted by name."""
+    """{file name: title} of the bundled scenario files the lab can show, sorted by name.
+
+    Beam scenarios (a ``[beam]`` table) are left out until the lab draws a BeamResult
+    (issue 8, the lab's beam mode); ``radorbit run``/``check`` and ``tracker.track`` take them.
+    """
     out = {}
     for path in sorted(SCENARIO_DIR.glob("*.toml")):
         try:
-            title = tomllib.loads(path.read_text(encoding="utf-8")).get("title", "")
+            data = tomllib.loads(path.read_text(encoding="utf-8"))
         except (OSError, tomllib.TOMLDecodeError):
-            title = ""
-        out[path.name] = title or path.stem
+            data = {}
+        if "beam" in data:
+            continue
+        out[path.name] = data.get("title", "") or path.stem
     return out
 
 

@@ -49,6 +49,7 @@ EXAMPLES = {
     "voltage": "1 V",
     "magnetic_moment": "8e22 A*m**2",
     "angle": "90 deg",
+    "intensity": "2e20 W/cm**2",
     "dimensionless": "",
 }
 

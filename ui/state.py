@@ -7,11 +7,10 @@ which is the only judge of validity. Views watch the parameters.
 """
 
 import copy
-import tomllib
 
 import param
 
-from tracker import Scenario, ScenarioError
+from tracker import Scenario, ScenarioError, plausibility
 from tracker.fields import MODELS as FIELD_MODELS
 from tracker.stops import StopReason
 
@@ -22,18 +21,8 @@ from .runner import RunController
 #: run states shown by the page
 STATUSES = ("idle", "queued", "running", "completed", "cancelled", "stopped", "failed")
 
-#: largest scenario file the lab reads, bytes (a scenario is a few kB; common practice, no source)
-MAX_SCENARIO_BYTES = 1_000_000
-#: deepest nesting of tables and arrays a scenario may have (the schema needs 3)
-MAX_NESTING = 8
-
-
-def nesting_depth(value, limit=MAX_NESTING + 1):
-    """Depth of nested dicts/lists in ``value`` (counting stops at ``limit``)."""
-    if limit <= 0 or not isinstance(value, (dict, list)):
-        return 0
-    children = value.values() if isinstance(value, dict) else value
-    return 1 + max((nesting_depth(v, limit - 1) for v in children), default=0)
+#: largest scenario file the lab reads, bytes (the engine's own limit)
+MAX_SCENARIO_BYTES = plausibility.MAX_SCENARIO_BYTES
 
 
 def value_errors(draft):
@@ -143,6 +132,10 @@ class LabState(param.Parameterized):
 
     run_count = param.Integer(default=0, doc="Runs finished in this session (completed, cancelled or failed).")
 
+    base_dir = param.String(default=None, allow_None=True, doc="""
+        Folder that relative file names in the draft (field maps) refer to: the folder of
+        the scenario file loaded from disk; None for uploads (their maps are uploaded too).""")
+
     def __init__(self, prepare=None, **params):
         super().__init__(**params)
         self._prepare = prepare
@@ -156,9 +149,9 @@ class LabState(param.Parameterized):
         if not isinstance(data, dict):
             self.source_error = f"a scenario is a table of keys, not {type(data).__name__}."
             return False
-        if nesting_depth(data) > MAX_NESTING:
-            self.source_error = (f"{source or 'the file'}: nested deeper than a scenario can be "
-                                 f"({MAX_NESTING} levels); nothing was loaded.")
+        if plausibility.nesting_depth(data) > plausibility.MAX_NESTING:
+            self.source_error = (f"{source or 'the file'}: not a scenario: arrays or tables nested more than "
+                                 f"{plausibility.MAX_NESTING} deep; nothing was loaded.")
             return False
         draft = copy.deepcopy(data)
         fields = draft.get("field", [])
@@ -180,7 +173,22 @@ class LabState(param.Parameterized):
         self.param.update(status="idle", progress=0.0, status_text="", comparison=None, prepared=None,
                           run_scenario=None)
 
-    def load_toml(self, text, source=""):
+    def store_upload(self, name, content):
+        """Keep an uploaded file (bytes) for this session; returns its absolute path (str).
+
+        Field-map uploads land in one temporary folder per session; the draft then names
+        the file by that absolute path, so it resolves whatever ``base_dir`` is.
+        """
+        import tempfile
+        from pathlib import Path
+
+        if getattr(self, "_upload_dir", None) is None:
+            self._upload_dir = tempfile.mkdtemp(prefix="radorbit-lab-")
+        path = Path(self._upload_dir) / Path(name).name
+        path.write_bytes(content)
+        return str(path)
+
+    def load_toml(self, text, source="", base_dir=None):
         """Load TOML text as the draft; on a syntax error keep the current draft.
 
         Returns
@@ -188,24 +196,18 @@ class LabState(param.Parameterized):
         bool
             True when loaded (the draft may still be invalid: see ``error``).
         """
-        if len(text) > MAX_SCENARIO_BYTES:
-            self.source_error = (f"{source or 'the file'}: {len(text):,} characters is more than a scenario "
-                                 f"file can be ({MAX_SCENARIO_BYTES:,}); nothing was loaded.")
-            return False
         try:
-            data = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            self.source_error = f"{source or 'the file'}: not valid TOML: {_capped(str(exc))}"
+            data = plausibility.toml_table(text)   # syntax errors, absurd nesting and size: one line each
+        except ScenarioError as exc:
+            self.source_error = f"{source or 'the file'}: {_capped(str(exc))}; nothing was loaded."
             return False
-        except RecursionError:
-            self.source_error = f"{source or 'the file'}: nested too deeply to read; nothing was loaded."
-            return False
+        self.base_dir = None if base_dir is None else str(base_dir)
         return self.load_dict(data, source)
 
     def load_bundled(self, name):
         """Load one of the bundled scenario files by its file name."""
         path = bundled_path(name)
-        return self.load_toml(path.read_text(encoding="utf-8"), name)
+        return self.load_toml(path.read_text(encoding="utf-8"), name, base_dir=path.resolve().parent)
 
     # ------------------------------------------------------------------ editing
     def value(self, path):
@@ -353,7 +355,7 @@ class LabState(param.Parameterized):
         """Hand the draft to ``Scenario.from_dict``; keep the Scenario or every message found."""
         errors = value_errors(self.draft)
         try:
-            scenario = Scenario.from_dict(self.draft)
+            scenario = Scenario.from_dict(self.draft, base_dir=self.base_dir)
             plan = scenario.plan()
         except ScenarioError as exc:
             message, key = _capped(str(exc)), exc.key

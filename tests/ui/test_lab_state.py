@@ -323,8 +323,8 @@ def test_three_bad_values_give_three_messages_under_their_inputs():
 # ---------------------------------------------------------------------- hostile files
 @pytest.mark.parametrize("text, words", [
     ("x = " + "[" * 500 + "]" * 500, "nested"),
-    ("title = '" + "a" * (MAX_SCENARIO_BYTES + 1) + "'", "more than a scenario file can be"),
-    ("a = { b = { c = { d = { e = { f = { g = { h = { i = { j = 1 } } } } } } } } }", "nested deeper"),
+    ("title = '" + "a" * (MAX_SCENARIO_BYTES + 1) + "'", "longer than"),
+    ("a = { b = { c = { d = { e = { f = { g = { h = { i = { j = 1 } } } } } } } } }", "nested more than"),
 ])
 def test_oversize_and_deeply_nested_files_are_refused_with_a_message(state, text, words):
     before = state.draft

@@ -10,7 +10,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM, create_app
+from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -192,7 +192,7 @@ def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
     lab = create_app()
     root = pn.panel(lab).get_root(Document())
     assert root is not None
-    assert lab.tabs.titles[:3] == [TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM]
+    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM]
     assert lab.state.scenario is not None
     other = create_app()
     assert other.state is not lab.state  # every session has its own state

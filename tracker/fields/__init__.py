@@ -15,7 +15,7 @@ How to add a field model
    scenario schema pick the model up from this registry with no further edits.
 """
 
-from . import laser, static, tokamak, undulator
+from . import expression, fieldmap, gaussian_beam, laser, static, tokamak, undulator
 from .base import ABSENT, REQUIRED, FieldModel, Param
 
 MODELS = {
@@ -27,6 +27,9 @@ MODELS = {
         undulator.MODEL,
         laser.MODEL,
         tokamak.MODEL,
+        fieldmap.MODEL,
+        gaussian_beam.MODEL,
+        expression.MODEL,
     )
 }
 

@@ -15,7 +15,8 @@ factor of the *average* momentum u_bar = (u- + u+)/2, half electric kick:
 the same quartic as in Vay's scheme with u- in place of u'. Like Boris the
 map is volume-preserving; like Vay it keeps the E x B velocity and moves a
 force-free particle straight [1]_ (abstract; the closed form here was
-re-derived from the implicit relation, see physics-reference section 8).
+re-derived from the implicit relation and checked against it in
+tests/test_pushers.py).
 """
 
 from numba import njit

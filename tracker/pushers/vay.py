@@ -16,7 +16,7 @@ update solves the relation in closed form: with u' = u^n + 2 e + u^n/gamma^n x t
 the new gamma is the positive root of gamma^4 - sigma gamma^2 - (|t|^2 + (u'.t)^2)
 = 0, sigma = 1 + |u'|^2 - |t|^2, and u^{n+1} is u' rotated back about t. The
 algebra follows the paper's Sec. II (equation numbers not checked against the
-printed text; see physics-reference section 8). The map conserves |u| when
+printed text; the closed form is checked in tests/test_pushers.py). The map conserves |u| when
 E = 0 but is not volume-preserving (Higuera & Cary 2017).
 """
 

@@ -8,8 +8,9 @@ state's position and time,
 
 the standard result for dv/dt (see ``tracker.radiation.power``). Radiation
 reaction changes the acceleration by ~tau0 omega ~ 1e-6 of this in every
-bundled scenario (physics-reference sec. 3: |F_RR|/|F_L| = 1.1e-6 at
-gamma = 1000, B = 1 T) and is left out of the emission kernel.
+bundled scenario (|F_RR|/|F_L| ~ tau0 gamma omega_B = 1.1e-6 at gamma = 1000,
+B = 1 T [computed from the Landau-Lifshitz force, Landau & Lifshitz vol. 2, sec. 76])
+and is left out of the emission kernel.
 
 Power per unit solid angle per unit *retarded* (emission) time t':
 
@@ -73,10 +74,14 @@ def orbit_kinematics(result, index=None):
         d(beta)/dt from the Lorentz force with the fields at (x, t) of each state;
         radiation reaction (~1e-6 of it) is neglected.
     """
+    from ..result import validated_arrays
+
     sel = slice(None) if index is None else index
-    t = np.ascontiguousarray(np.atleast_1d(result.t[sel]), dtype=np.float64)
-    x = np.ascontiguousarray(np.atleast_2d(result.x[sel]), dtype=np.float64)
-    u = np.ascontiguousarray(np.atleast_2d(result.u[sel]), dtype=np.float64)
+    # shapes and dtypes checked before anything reaches the compiled loop (a hand-built or
+    # damaged Result must give an error, not a crash)
+    arrays = validated_arrays({"t": np.atleast_1d(result.t[sel]), "x": np.atleast_2d(result.x[sel]),
+                               "u": np.atleast_2d(result.u[sel])}, "result", names=("t", "x", "u"))
+    t, x, u = arrays["t"], arrays["x"], arrays["u"]
     kinds, params, data = result.scenario.field_table
     particle = result.scenario.particle
     out = np.zeros_like(x)

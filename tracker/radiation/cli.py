@@ -2,14 +2,17 @@
 
 Called by ``tracker.cli`` (which owns the argparse definition) with:
 
-- ``args.result``: path of a result written by ``radorbit run -o x.h5``;
+- ``args.result``: path of a result written by ``radorbit run -o x.h5`` (a CSV result
+  is refused in one line: it does not keep the scenario);
 - ``args.direction``: list of "nx,ny,nz" strings, or None (then one direction
   along the mean velocity, or the velocity of the middle state when the mean
   is ~0, as for a closed orbit);
 - ``args.omega_range``: "low,high,n" (log-spaced grid; numbers are rad/s,
   strings may carry units of angular frequency, frequency (Hz, times 2 pi) or
   photon energy (eV, divided by hbar)), or None for a grid chosen from the orbit;
-- ``args.method``: "direct", "nufft" or "synchrotron";
+- ``args.method``: "auto" (default: chosen by the orbit, ``tracker.radiation.choice``,
+  with the reason printed), "direct", "nufft" or "synchrotron" (refused for orbits that
+  are not synchrotron-like);
 - ``args.output``: .csv or .h5 path, or None.
 
 Bad input raises ScenarioError; ``tracker.cli.main`` turns it into exit status 2.
@@ -26,6 +29,8 @@ from ..errors import ScenarioError
 from ..io import atomic_path
 
 from .spectra import DEFAULT_POINTS, spectra
+
+METHOD_CHOICES = ("auto",) + tuple(DEFAULT_POINTS)
 
 
 def _load(path):
@@ -59,7 +64,11 @@ def parse_angular_frequency(text, key="--omega-range"):
     Angular frequency ("2e18 rad/s", "1/fs") is taken as is, frequency in hertz
     ("300 THz") is multiplied by 2 pi, photon energy ("1 keV") divided by hbar.
     """
+    from ..units import MAX_QUANTITY_LENGTH
+
     text = str(text).strip()
+    if len(text) > MAX_QUANTITY_LENGTH:
+        raise ScenarioError(key, f"is too long for a quantity (at most {MAX_QUANTITY_LENGTH} characters).")
     try:
         return float(text)
     except ValueError:
@@ -147,20 +156,47 @@ def _write_hdf5(path, datasets, attrs):
 
 def run_spectrum(args):
     """Compute, print a summary and optionally write the table; returns the exit status 0."""
+    from ..cli import output_format
+    from .beam_spectrum import is_beam, orbit_radiated_energy, require_particles
+    from .choice import check_synchrotron, choose_method, clip_to_ceiling, quantum_note
+
+    method = args.method or "auto"
+    if method not in METHOD_CHOICES:
+        raise ScenarioError("--method", f"must be one of {', '.join(METHOD_CHOICES)}, not {method!r}.")
+    if args.output:
+        output_format(args.output)
     result = _load(args.result)
-    method = args.method
-    if method not in DEFAULT_POINTS:
-        raise ScenarioError("--method", f"must be direct, nufft or synchrotron, not {method!r}.")
+    beam = is_beam(result)
+    if beam:
+        require_particles(result)   # statistics-only beams: refused with the reason
     if args.direction and method == "synchrotron":
         raise ScenarioError("--direction", "does not apply to --method synchrotron (summed over all directions).")
     from .spectrum import default_direction
 
-    directions = (np.array([parse_direction(d) for d in args.direction]) if args.direction
-                  else default_direction(result)[None, :])
+    given = np.array([parse_direction(d) for d in args.direction]) if args.direction else None
+    reason = ""
+    probe = result.particle(0) if beam else result   # the method choice looks at one orbit (a beam's first)
+    if method == "auto":
+        method, reason = choose_method(probe, given)
+        if method == "synchrotron" and given is not None:
+            raise ScenarioError("--direction", f"the automatic choice is the synchrotron formula, summed over all "
+                                               f"directions ({reason}); leave --direction out or choose --method "
+                                               "nufft.")
+    elif method == "synchrotron":
+        check_synchrotron(probe)
+    directions = given if given is not None else default_direction(result)[None, :]
     omega = parse_omega_range(args.omega_range) if args.omega_range else _default_omega(result, method, directions)
+    omega, cut = clip_to_ceiling(probe, omega)
     photon_ev = k.hbar * omega / k.e
     source = str(args.result)
-    print(f"spectrum of {source} ({len(result.t):,} saved states), method {method}")
+    what = (f"{len(result.t):,} saved states x {result.count:,} particles; the incoherent sum of their spectra"
+            if beam else f"{len(result.t):,} saved states")
+    print(f"spectrum of {source} ({what}), method {method}")
+    if reason:
+        print(f"method chosen: {reason}")
+    for note in (cut, quantum_note(probe)):
+        if note:
+            print(f"note: {note}")
     print(f"omega {omega[0]:.4g} .. {omega[-1]:.4g} rad/s ({_fmt_photon(omega[0])} .. {_fmt_photon(omega[-1])}), "
           f"{len(omega)} points, log-spaced")
     if not args.omega_range and method != "synchrotron":
@@ -168,14 +204,14 @@ def run_spectrum(args):
               "resolve; track with a smaller dt and save_every = 1 to reach higher")
 
     if method == "synchrotron":
-        from .synchrotron import critical_frequency, photon_spectrum
+        from .synchrotron import largest_critical_frequency, photon_spectrum
 
         dw = spectra({"result": result}, method, omega).values["result"]
         dn = photon_spectrum(result, omega)
-        wc = critical_frequency(result)
+        wc = largest_critical_frequency(result)
         total = float(np.trapezoid(dw, omega))
-        print(f"largest critical photon energy {_fmt_photon(wc.max())}; "
-              f"energy in band {total:.4g} J; radiated energy of the orbit {result.radiated_energy[-1]:.4g} J; "
+        print(f"largest critical photon energy {_fmt_photon(wc)}; "
+              f"energy in band {total:.4g} J; radiated energy of the orbit {orbit_radiated_energy(result):.4g} J; "
               f"photons in band {float(np.trapezoid(dn, omega)):.4g}")
         header = ["omega_rad_s", "photon_energy_eV", "dW_domega_J_s", "dN_domega_s"]
         columns = [omega, photon_ev, dw, dn]
@@ -199,7 +235,7 @@ def run_spectrum(args):
             f"dir{i} = {float(n[0])!r}, {float(n[1])!r}, {float(n[2])!r}" for i, n in enumerate(directions)]
     if args.output:
         out = Path(args.output)
-        if out.suffix.lower() == ".csv":
+        if output_format(out) == "csv":
             _write_csv(out, header, columns, comments)
         else:
             _write_hdf5(out, datasets, {"method": method, "result": source,

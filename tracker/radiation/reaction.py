@@ -28,13 +28,17 @@ from .. import constants as k
 from ..config import LEAF
 from .power import chi_parameter, transverse_force_squared
 from .quantum import gaunt_factor
+from .stochastic import CHI_STOCHASTIC_MIN
 
 NONE = 0
 LANDAU_LIFSHITZ = 1
 LANDAU_LIFSHITZ_QUANTUM = 2  #: LL force and power scaled by the Gaunt factor g(chi), see quantum.py
+#: photons sampled one by one (stochastic.py); below CHI_STOCHASTIC_MIN the g(chi)-scaled LL force
+QUANTUM_STOCHASTIC = 3
 
 #: scenario name -> kernel code
-MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ, "landau-lifshitz-quantum": LANDAU_LIFSHITZ_QUANTUM}
+MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ, "landau-lifshitz-quantum": LANDAU_LIFSHITZ_QUANTUM,
+          "quantum-stochastic": QUANTUM_STOCHASTIC}
 
 
 @njit(**LEAF)
@@ -66,20 +70,22 @@ def ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey
 
 
 @njit(**LEAF)
-def radiation_kick(model, dt, qm, tau0, chi_scale, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
+def radiation_kick(model, dt, qm, tau0, chi_scale, gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
                    dex, dey, dez, dbx, dby, dbz):
     """Change of u = gamma beta over dt (s) from the damping ``model`` at the momentum u.
 
+    ``gamma`` must be sqrt(1 + |u|^2) (the caller often knows it already).
     Evaluates the force at (u, E, B): Landau-Lifshitz, or Landau-Lifshitz scaled by the
-    Gaunt factor g(chi) of that state (quantum-corrected, see quantum.py). ``NONE``
+    Gaunt factor g(chi) of that state (quantum-corrected, see quantum.py), or for the
+    stochastic model that same corrected force below ``CHI_STOCHASTIC_MIN`` and zero above
+    (the photons sampled in ``step.advance`` carry the loss there). ``NONE``
     gives zero; an unknown code gives NaN (the particle stops) rather than a silent
     zero. Units as ``ll_kick``; chi_scale = |q| hbar/(m^2 c^3) in m/V.
     """
     if model == NONE:
         return 0.0, 0.0, 0.0
-    if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM:
+    if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM and model != QUANTUM_STOCHASTIC:
         return math.nan, math.nan, math.nan
-    gamma = math.sqrt(1.0 + ux * ux + uy * uy + uz * uz)
     inv_g = 1.0 / gamma
     bx = ux * inv_g
     by = uy * inv_g
@@ -88,5 +94,12 @@ def radiation_kick(model, dt, qm, tau0, chi_scale, ux, uy, uz, ex, ey, ez, fbx, 
     kx, ky, kz = ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz, f2)
     if model == LANDAU_LIFSHITZ_QUANTUM:
         g = gaunt_factor(chi_parameter(chi_scale, gamma, f2))
+        return g * kx, g * ky, g * kz
+    if model == QUANTUM_STOCHASTIC:
+        # continuous only below the stochastic threshold; above it photons carry the loss
+        chi = chi_parameter(chi_scale, gamma, f2)
+        if chi >= CHI_STOCHASTIC_MIN:
+            return 0.0, 0.0, 0.0
+        g = gaunt_factor(chi)
         return g * kx, g * ky, g * kz
     return kx, ky, kz

@@ -54,7 +54,7 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 
 # finufft and numba's OpenMP layer spin-wait by default; on a busy two-core
-# machine that costs 5-100x (PERFORMANCE.md). Must be set before OpenMP starts.
+# machine that costs 5-100x (measured with benchmarks/bench_spectrum.py). Must be set before OpenMP starts.
 os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
 
 import numpy as np  # noqa: E402
@@ -64,6 +64,7 @@ from .. import constants as k  # noqa: E402
 from ..config import KERNEL  # noqa: E402
 from ..errors import ScenarioError  # noqa: E402
 from .angular import orbit_kinematics  # noqa: E402
+from .beam_spectrum import beam_default_direction, beam_resolved_band, incoherent_sum, is_beam  # noqa: E402
 
 METHODS = ("nufft", "direct")
 WINDOWS = ("auto", "none", "tukey")
@@ -383,6 +384,9 @@ def radiation_amplitudes(result, directions, omega, method="nufft", window="auto
     ScenarioError
         Bad arguments, or ``omega`` above what the saved samples resolve.
     """
+    if is_beam(result):
+        raise ScenarioError("result", "amplitudes are per particle: use result.particle(i) (a beam's spectrum is "
+                                      "the incoherent sum of its particles' spectra, ``spectrum``).")
     if method not in METHODS:
         raise ScenarioError("method", f"must be one of {', '.join(map(repr, METHODS))}, not {method!r}.")
     if not (isinstance(eps, float) or isinstance(eps, int)) or not 1e-15 <= eps < 1e-1:
@@ -406,14 +410,17 @@ def radiation_amplitudes(result, directions, omega, method="nufft", window="auto
     return out, basis
 
 
-def spectrum(result, directions, omega, method="nufft", window="auto", taper=DEFAULT_TAPER, eps=DEFAULT_EPS):
+def spectrum(result, directions, omega, method="nufft", window="auto", taper=DEFAULT_TAPER, eps=DEFAULT_EPS,
+             progress=None, cancel=None):
     """Energy radiated per unit angular frequency and solid angle, d^2W/(domega dOmega), J s/sr.
 
     Parameters
     ----------
-    result : Result
+    result : Result or BeamResult
         A tracked orbit; dense sampling (``run.save_every = 1``) resolves the
-        highest frequencies.
+        highest frequencies. For a beam: the incoherent sum sum_i w_i S_i over its
+        particles (intensities add; |sum_i A_i|^2 would be the coherent spectrum:
+        ``tracker.radiation.beam_spectrum``); ``run.save = "statistics"`` is refused.
     directions : array_like, shape (n_dir, 3)
         Observer directions n (unit vectors; normalised here).
     omega : array_like, shape (n_omega,), rad/s
@@ -437,6 +444,9 @@ def spectrum(result, directions, omega, method="nufft", window="auto", taper=DEF
         requested frequency (phase advance omega (1 - n.beta) dt per sample
         above pi on a sample that matters).
     """
+    if is_beam(result):
+        return incoherent_sum(result, lambda one: spectrum(one, directions, omega, method, window, taper, eps),
+                              progress, cancel)
     amps, _ = radiation_amplitudes(result, directions, omega, method=method, window=window, taper=taper, eps=eps)
     power = amps.real**2 + amps.imag**2
     return prefactor(result.scenario.particle.charge) * power.sum(axis=1)
@@ -483,6 +493,8 @@ def photon_energy_ev(omega):
 def default_direction(result):
     """Unit vector (3,) along the mean velocity, or along the middle state's velocity when the
     mean is ~0 (closed orbits), for a first look at a spectrum."""
+    if is_beam(result):
+        return beam_default_direction(result)
     u = np.asarray(result.u, dtype=float)
     beta = u / np.sqrt(1.0 + np.einsum("ij,ij->i", u, u))[:, None]
     mean = beta.mean(axis=0)
@@ -497,9 +509,10 @@ def default_direction(result):
 def default_omega(result, directions, n=2000):
     """Log-spaced grid (rad/s), shape (n,), from the frequency resolution up to half the Nyquist limit.
 
-    Raises ScenarioError("omega") when nothing radiates towards ``directions``.
+    Raises ScenarioError("omega") when nothing radiates towards ``directions``. For a beam, the band
+    every particle resolves.
     """
-    low, high = resolved_band(result, directions)
+    low, high = beam_resolved_band(result, directions) if is_beam(result) else resolved_band(result, directions)
     lo = float(np.max(low))
     hi = NYQUIST_FRACTION * float(np.min(high))
     if not (math.isfinite(lo) and math.isfinite(hi)) or hi <= lo:

@@ -51,6 +51,7 @@ from .. import constants as k
 from ..config import KERNEL
 from ..errors import ScenarioError
 from .angular import orbit_kinematics
+from .beam_spectrum import contributing_particles, incoherent_sum, is_beam, require_particles
 from .spectrum import _omega, trapezoid_weights
 
 #: normalisation of S(x) = NORM_S F(x): Int_0^inf F dx = 8 pi/(9 sqrt3).
@@ -150,6 +151,15 @@ def critical_frequency(result):
     return local_synchrotron(result)[0]
 
 
+def largest_critical_frequency(result):
+    """Largest local critical angular frequency over the saved states (and particles of a beam), rad/s."""
+    if is_beam(result):
+        require_particles(result)
+        return max((float(np.max(critical_frequency(result.particle(int(i))), initial=0.0))
+                    for i in contributing_particles(result)), default=0.0)
+    return float(np.max(critical_frequency(result), initial=0.0))
+
+
 def _acceptance_mask(result, acceptance):
     if acceptance is None:
         return np.ones(len(result.t), dtype=bool)
@@ -203,7 +213,8 @@ def synchrotron_spectrum(result, omega, acceptance=None):
 
     Parameters
     ----------
-    result : Result
+    result : Result or BeamResult
+        For a beam: the incoherent sum over its particles, weighted (``beam_spectrum``).
     omega : array_like, shape (n_omega,), rad/s
         Positive angular frequencies.
     acceptance : (array_like shape (3,), float rad), optional
@@ -217,6 +228,8 @@ def synchrotron_spectrum(result, omega, acceptance=None):
         over 0 < omega < inf it gives the energy radiated by the transverse
         acceleration of the counted states (J).
     """
+    if is_beam(result):
+        return incoherent_sum(result, lambda one: synchrotron_spectrum(one, omega, acceptance))
     w = _omega(omega)
     omega_c, power = local_synchrotron(result)
     energy = trapezoid_weights(result.t) * power
@@ -258,9 +271,8 @@ def default_synchrotron_omega(result, n=400):
 
     Raises ScenarioError("result") when the orbit never bends.
     """
-    wc = critical_frequency(result)
-    if not np.any(wc > 0):
+    top = largest_critical_frequency(result)
+    if not top > 0:
         raise ScenarioError("result", "the orbit never bends (no transverse acceleration): no synchrotron "
                                       "spectrum.")
-    top = float(wc.max())
     return np.geomspace(DEFAULT_BAND[0] * top, DEFAULT_BAND[1] * top, int(n))

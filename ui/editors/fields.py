@@ -14,6 +14,7 @@ from tracker.fields import MODELS as FIELD_MODELS
 
 from ..state import field_model
 from .inputs import ErrorBoard, RowCache
+from .special_inputs import FileEntryRow, FormulaEntryRow, TableEntryRow
 from ..theme import UNITS_NOTE, html_pane
 
 CARD_HEADER = "#e6ecf2"
@@ -24,13 +25,27 @@ def model_options():
     return {f"{model.label} ({name})": name for name, model in FIELD_MODELS.items()}
 
 
+def field_row(cache, index, model, p):
+    """The input row for one parameter: chosen by the parameter's kind (number, vector, choice,
+    file, formula or table), so a new model needs no code here. Plain rows are kept across
+    rebuilds by ``cache`` (their boxes stay in the page)."""
+    state = cache.state
+    path = ("field", index, p.name)
+    if p.kind == "path":
+        return FileEntryRow(state, path, p.name, doc=p.doc, default=p.default)
+    if p.kind == "formula":
+        tables = [q.name for q in model.params if q.kind == "table"]
+        return FormulaEntryRow(state, path, p.name, doc=p.doc, unit=p.unit,
+                               parameters_path=("field", index, tables[0]) if tables else None)
+    if p.kind == "table":
+        return TableEntryRow(state, path, p.name, doc=p.doc)
+    return cache.row(path, p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc, default=p.default,
+                     choices=p.choices)
+
+
 def field_rows(cache, index, model):
-    """One EntryRow (kept across rebuilds by ``cache``) per parameter of ``model`` for field ``index``."""
-    return [
-        cache.row(("field", index, p.name), p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc,
-                  default=p.default, choices=p.choices)
-        for p in model.params
-    ]
+    """One input row per parameter of ``model`` for field component ``index``."""
+    return [field_row(cache, index, model, p) for p in model.params]
 
 
 class FieldComposer(Viewer):

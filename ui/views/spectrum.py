@@ -5,10 +5,12 @@ A view only: every number comes from ``tracker.radiation`` (``spectra`` is also 
 session's ``LabState`` like every other view, and its computation is a queued
 ``ui.work.Job`` handed back through the session's ``SessionLink`` (cancelled with it).
 
-- Spectrum (on demand, "Compute spectrum" button, off the UI thread): either
-  the synchrotron spectrum summed over all directions, dW/domega, or the
-  radiation integral towards the mean velocity, d^2W/(domega dOmega); log axes
-  over photon energy in eV, keV or MeV.
+- Spectrum (on demand, "Compute spectrum" button, off the UI thread): the method
+  chosen by the orbit (``tracker.radiation.choice``, its reason shown), the
+  synchrotron spectrum summed over all directions, dW/domega (refused for
+  orbits that are not synchrotron-like), or the radiation integral towards a
+  direction (the mean velocity unless one is typed), d^2W/(domega dOmega); an
+  optional photon-energy range; log axes over photon energy in eV, keV or MeV.
 - Angular map (cheap, redrawn when the time slider is released): dP/dOmega of
   one saved state per unit emission time, damped and undamped side by side on
   one colour scale, with theta measured from the velocity (in units of 1/gamma)
@@ -35,13 +37,16 @@ RUN_STYLES = {
     "undamped": dict(color="#1d5f8a", line_width=1.8, line_dash=[6, 4]),
 }
 METHODS = {
+    "Automatic: chosen by the orbit": "auto",
     "Synchrotron spectrum, all directions": "synchrotron",
-    "Radiation integral, towards the mean velocity": "nufft",
+    "Radiation integral, towards one direction": "nufft",
 }
 FRAMES = {"θ from the velocity (units of 1/γ)": "velocity", "θ from lab +z (degrees)": "z"}
 PHOTON_UNITS = (("MeV", 1e6), ("keV", 1e3), ("eV", 1.0))
 #: frequencies per spectrum; the radiation integral keeps undulator lines of width 1/(nN) visible
 SPECTRUM_POINTS = {"synchrotron": 400, "nufft": 2000}
+#: points of a grid typed as a photon-energy range
+RANGE_POINTS = 800
 #: angular map: polar x azimuthal samples, and the polar extent in units of 1/gamma
 MAP_SHAPE = (64, 73)
 VELOCITY_FRAME_EXTENT = 5.0
@@ -56,34 +61,89 @@ def photon_unit(max_ev):
     return PHOTON_UNITS[-1]
 
 
-def compute_spectra(comparison, method):
+def parse_range(low, high):
+    """Photon-energy range typed in the tab -> (low, high) in rad/s, or None when both are empty.
+
+    Each box takes a photon energy ("1 keV"), a frequency ("300 THz") or an angular
+    frequency (rad/s); raises ScenarioError naming the box.
+    """
+    from tracker.radiation.cli import parse_angular_frequency
+
+    low, high = (str(low or "").strip(), str(high or "").strip())
+    if not low and not high:
+        return None
+    if not (low and high):
+        raise ScenarioError("photon range", "give both ends of the range, or neither.")
+    w_low = parse_angular_frequency(low, "photon range (from)")
+    w_high = parse_angular_frequency(high, "photon range (to)")
+    if not (0 < w_low < w_high < float("inf")):
+        raise ScenarioError("photon range", f"needs 0 < from < to, not {low!r} .. {high!r}.")
+    return w_low, w_high
+
+
+def parse_lab_direction(text):
+    """Direction typed in the tab ('nx, ny, nz') -> unit vector (3,), or None when empty."""
+    from tracker.radiation.cli import parse_direction
+
+    text = str(text or "").strip()
+    return parse_direction(text, "direction") if text else None
+
+
+def compute_spectra(comparison, method, omega_range=None, direction=None):
     """Spectra of both runs for display.
 
     Parameters
     ----------
     comparison : tracker.Comparison
-    method : {"synchrotron", "nufft"}
+    method : {"auto", "synchrotron", "nufft"}
+    omega_range : (low, high) rad/s, optional
+        Log-spaced grid over this range instead of the default one.
+    direction : ndarray (3,), optional
+        Observer direction of the radiation integral (default: the mean velocity).
 
     Returns
     -------
     dict
-        ``runs``: {name: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text).
+        ``runs``: {name: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text),
+        ``method`` (the one used).
     """
+    from tracker.radiation.choice import check_synchrotron, choose_method, clip_to_ceiling, quantum_note
+
+    runs = {}
     notes = []
-    found = radiation.spectra({name: getattr(comparison, name) for name in RUNS}, method,
-                              points=SPECTRUM_POINTS[method])
-    ev = found.photon_energy_ev
+    if method == "auto":
+        method, reason = choose_method(comparison.damped, None if direction is None else direction[None, :])
+        notes.append(f"method chosen: {reason}")
+        if method == "synchrotron" and direction is not None:
+            notes.append("the direction does not apply (summed over all directions)")
+    elif method == "synchrotron":
+        check_synchrotron(comparison.damped)
+    if omega_range is not None:
+        omega = np.geomspace(omega_range[0], omega_range[1], RANGE_POINTS)
+    elif method == "synchrotron":
+        omega = radiation.default_synchrotron_omega(comparison.damped, SPECTRUM_POINTS[method])
+    else:
+        direction = radiation.default_direction(comparison.damped) if direction is None else direction
+        omega = radiation.default_omega(comparison.damped, direction[None, :], SPECTRUM_POINTS[method])
+    omega, cut = clip_to_ceiling(comparison.damped, omega)
+    notes += [n for n in (cut, quantum_note(comparison.damped)) if n]
+    results = {name: getattr(comparison, name) for name in RUNS}
     if method == "synchrotron":
-        runs = {name: (ev, values) for name, values in found.values.items()}
+        found = radiation.spectra(results, method, omega)  # the function `radorbit spectrum` calls
+        runs = {name: (found.photon_energy_ev, values) for name, values in found.values.items()}
         ylabel = "dW/dω (J s), all directions"
         wc = radiation.critical_frequency(comparison.damped)
         notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc.max())):.4g} eV")
     else:
-        runs = {name: (ev, values[0]) for name, values in found.values.items()}
+        direction = radiation.default_direction(comparison.damped) if direction is None else direction
+        found = radiation.spectra(results, method, omega, direction[None, :])
+        runs = {name: (found.photon_energy_ev, values[0]) for name, values in found.values.items()}
         ylabel = "d²W/dω dΩ (J s/sr)"
-        notes.append("towards n = (" + ", ".join(f"{v:+.4f}" for v in found.directions[0]) + ")")
-        notes.append(f"up to {float(ev[-1]):.4g} eV, half the highest frequency the saved states resolve")
-    return {"runs": runs, "ylabel": ylabel, "note": "; ".join(notes)}
+        notes.append("towards n = (" + ", ".join(f"{v:+.4f}" for v in direction) + ")")
+        if omega_range is None:
+            notes.append(f"up to {float(radiation.photon_energy_ev(omega[-1])):.4g} eV, half the highest frequency "
+                         "the saved states resolve")
+    return {"runs": runs, "ylabel": ylabel, "note": "; ".join(notes), "method": method}
 
 
 def compute_maps(comparison, index, frame):
@@ -133,7 +193,12 @@ class SpectrumPanel(Viewer):
         self.link.on_gone(self.cancel)
         self._comparison = None
         self._job = None
-        self.method = pn.widgets.Select(label="Spectrum", options=METHODS, value="synchrotron", width=360)
+        self.method = pn.widgets.Select(label="Spectrum", options=METHODS, value="auto", width=360)
+        self.range_low = pn.widgets.TextInput(label="Photon energy from", placeholder="default, or e.g. 10 eV",
+                                              width=170)
+        self.range_high = pn.widgets.TextInput(label="to", placeholder="default, or e.g. 5 keV", width=170)
+        self.direction = pn.widgets.TextInput(label="Direction (radiation integral)",
+                                              placeholder="mean velocity, or nx, ny, nz", width=220)
         self.compute_button = pn.widgets.Button(label="Compute spectrum", color="primary", disabled=True,
                                                 width=170, align="end")
         self.status = pn.pane.Str("Run a scenario, then compute its spectrum here.",
@@ -176,6 +241,7 @@ class SpectrumPanel(Viewer):
         self._layout = pn.Column(
             pn.pane.Markdown("#### Spectrum (computed on demand)"),
             pn.Row(self.method, self.compute_button),
+            pn.Row(self.range_low, self.range_high, self.direction),
             self.status,
             pn.pane.Bokeh(self.spectrum_figure, sizing_mode="stretch_width"),
             pn.pane.Markdown("#### Angular distribution of the emitted power, per unit emission time"),
@@ -268,7 +334,13 @@ class SpectrumPanel(Viewer):
             return
         comparison = self._comparison
         method = self.method.value
-        job = self._job = Job(lambda _progress, _cancel: compute_spectra(comparison, method),
+        try:
+            omega_range = parse_range(self.range_low.value, self.range_high.value)
+            direction = parse_lab_direction(self.direction.value)
+        except ScenarioError as exc:
+            self.status.object = f"No spectrum: {exc}"
+            return
+        job = self._job = Job(lambda _progress, _cancel: compute_spectra(comparison, method, omega_range, direction),
                               name="radorbit-lab-spectrum", failure="the spectrum failed").start()
         self.compute_button.disabled = True
         self.status.object = "Computing the spectrum of both runs…"

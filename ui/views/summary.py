@@ -27,9 +27,11 @@ table.ro-summary td { font-variant-numeric: tabular-nums; }
 
 #: (key, label, formatter) of the summary rows; values from Result.summary() (SI)
 ROWS = (
+    ("end_time", "end time", lambda v: quantity_text(v, TIME_UNITS, 6)),
     ("final_energy", "final energy γmc²", energy_text),
+    ("final_kinetic_energy", "final kinetic energy", energy_text),
     ("energy_radiated", "energy radiated", energy_text),
-    ("fraction_lost", "fraction of initial kinetic energy radiated", lambda v: number_text(v, 5)),
+    ("fraction_lost", "energy radiated / initial kinetic energy", lambda v: number_text(v, 5)),
     ("peak_power", "peak Liénard power", lambda v: f"{number_text(v, 5)} W"),
     ("peak_chi", "peak χ", lambda v: number_text(v, 5)),
     ("energy_balance_residual", "energy-balance residual", lambda v: f"{v:.2e}" if math.isfinite(v) else "–"),
@@ -47,7 +49,7 @@ def summary_html(comparison, stale=False):
     for name, r in results.items():
         badge = ('<span class="ro-badge complete">complete</span>' if r.complete else
                  f'<span class="ro-badge partial" id="partial-{name}">partial: '
-                 f'{html.escape(str(r.meta.get("stop_reason", "stopped")))}</span>')
+                 f'{html.escape(str(getattr(r, "status", r.meta.get("stop_reason", "stopped"))))}</span>')
         swatch = ("border-top:3px solid #c2410c" if name == "damped" else "border-top:3px dashed #1d5f8a")
         model = r.meta.get("radiation_reaction", "")
         label = f"{name} ({model})" if model and name == "damped" else name

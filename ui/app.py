@@ -54,7 +54,6 @@ class Lab(Viewer):
 
     def __init__(self, state, page, tabs, controls, link):
         super().__init__()
-        self.scan = scan
         self.state = state
         self.page = page
         self.tabs = tabs
@@ -65,6 +64,12 @@ class Lab(Viewer):
     def spectrum(self):
         """The Spectrum view (built on first use)."""
         return self.tabs.build(self.tabs.index(TAB_SPECTRUM))
+
+    @property
+    def scan(self):
+        """The Scan tab's content (built on first use)."""
+        self.tabs.build(self.tabs.index(TAB_SCAN))
+        return self.tabs.context.views["scan"]
 
     def __panel__(self):
         return self.page

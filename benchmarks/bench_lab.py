@@ -33,7 +33,7 @@ from lab_helpers import CHROMIUM, CHROMIUM_ARGS, free_port, wait_for_http  # noq
 LONG = {"duration": "7 ms", "save_every": "100000"}
 
 
-def get_ms(url, timeout=60):
+def get_ms(url, timeout=180):
     start = time.perf_counter()
     with urllib.request.urlopen(url, timeout=timeout) as response:
         response.read()

@@ -98,16 +98,20 @@ class LabServer:
         Host names to answer to besides the loopback names and ``address``.
     path : str
         URL path of the lab ('/' for ``radorbit lab``).
+    reuse_page : bool
+        Serve page loads from an untouched template session (see ``_prepare_template_pages``).
     """
 
     def __init__(self, app: Callable, port: int = 5006, address: str = "127.0.0.1",
-                 allow_hosts: Iterable[str] = (), path: str = "/", title: str = "radorbit lab"):
+                 allow_hosts: Iterable[str] = (), path: str = "/", title: str = "radorbit lab",
+                 reuse_page: bool = True):
         self.app = app
         self.port = port
         self.address = address
         self.hosts = allowed_hosts(address, allow_hosts)
         self.path = path
         self.title = title
+        self.reuse_page = reuse_page
         self.server = None
         self._thread = None
         self._ready = threading.Event()
@@ -131,10 +135,34 @@ class LabServer:
                           unused_session_lifetime_milliseconds=UNUSED_SESSION_LIFETIME_MS,
                           check_unused_sessions_milliseconds=CHECK_UNUSED_SESSIONS_MS)
         guard_hosts(server._tornado, self.hosts)
+        if self.reuse_page:
+            self._prepare_template_pages(server)
         self.port = server.port
         server._tornado.websocket_origins.update(websocket_origins(self.hosts, self.port))
         self.server = server
         return server
+
+    @staticmethod
+    def _prepare_template_pages(server) -> None:
+        """Answer ``GET`` with the page of one untouched template session per path.
+
+        Building a session takes about a second of Python (and much longer while runs compete
+        for the CPU); with a template, ``GET /`` only renders its page with a new session id,
+        and the visitor's own session is built when the page connects (Panel's session reuse).
+        The template is made here, before anyone connects, so no visitor ever edits it: a page
+        never shows another visitor's state.
+        """
+        from panel.config import config
+        from panel.io.session import generate_session
+        from panel.io.state import set_curdoc, state
+
+        config.reuse_sessions = True
+        for path, context in server._tornado._applications.items():
+            session = generate_session(context.application, initialize=True)
+            with set_curdoc(session.document):
+                state._session_key_funcs[path] = lambda request: request.path
+                state._sessions[path] = session
+                session.block_expiration()
 
     def run(self, show: bool = False) -> None:
         """Serve in this thread until the loop is stopped (Ctrl-C)."""

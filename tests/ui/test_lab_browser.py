@@ -342,3 +342,20 @@ def test_a_deeply_nested_upload_gets_a_message(page, lab_url, tmp_path):
     page.locator(".upload-scenario input[type=file]").set_input_files(str(deep))
     expect(page.locator("#source-error")).to_contain_text("nested", timeout=30_000)
     expect(page.locator(".run-button button")).to_be_enabled()
+
+
+def test_a_page_load_never_shows_another_visitors_edits(browser, lab_url):
+    # page loads are served from an untouched template session (ui.server): a second visitor
+    # sees the bundled scenario, not what the first one typed
+    contexts = [browser.new_context(viewport={"width": 1400, "height": 900}) for _ in range(2)]
+    try:
+        first, second = (c.new_page() for c in contexts)
+        open_lab(first, lab_url)
+        type_into(first, ".in-title", "first visitor's private title")
+        expect(first.locator("#scenario-title")).to_have_text("first visitor's private title")
+        open_lab(second, lab_url)
+        expect(second.locator("#scenario-title")).to_have_text(bundled_scenarios()[LASER])
+        assert "private title" not in second.content()
+    finally:
+        for c in contexts:
+            c.close()

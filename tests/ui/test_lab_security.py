@@ -95,3 +95,12 @@ def test_websocket_from_the_lab_itself_passes_the_checks(served):
     # control: the same handshake with the lab's own host and origin is not refused by either check
     port = served.port
     assert websocket_status(served, f"127.0.0.1:{port}", f"http://127.0.0.1:{port}") != 403
+
+
+def test_a_page_load_does_not_build_a_session(served):
+    # GET / is answered from the template session; the visitor's own session is built on connect
+    contexts = list(served.server._tornado._applications.values())
+    before = sum(len(list(c.sessions)) for c in contexts)
+    for _ in range(3):
+        assert get(served, "/", f"127.0.0.1:{served.port}")[0] == 200
+    assert sum(len(list(c.sessions)) for c in contexts) == before

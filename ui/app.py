@@ -123,15 +123,16 @@ def results_tab(context):
     plots = pn.Column(sizing_mode="stretch_width", margin=0)
 
     def build_plots(*_):
-        # the result figures are made with the first result, which keeps page loads light
-        if state.prepared is not None and not plots.objects:
+        # the result figures are made when the first run starts (while it computes), which keeps
+        # page loads light and takes their making off the path from the run's end to its plots
+        if (state.prepared is not None or state.status in ("queued", "running")) and not plots.objects:
             context.views.update(orbits=OrbitView(state), series=SeriesView(state))
             plots.objects = [
                 section_card("Orbit projections (zoom one, the others follow)", context.views["orbits"]),
                 section_card("Time series", context.views["series"]),
             ]
 
-    state.param.watch(build_plots, "prepared")
+    state.param.watch(build_plots, ["prepared", "status"])
     build_plots()
     return pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
                      sizing_mode="stretch_width", margin=0)
@@ -186,7 +187,8 @@ def create_app(initial_scenario_path=None):
 
     context.show_results = finished
 
-    controls = RunControls(state, link=link, on_finished=finished)
+    controls = RunControls(state, link=link, on_finished=finished,
+                           on_started=lambda: tabs.build(tabs.index(TAB_RESULTS)))
     sidebar = pn.Column(
         section_card("Run", controls),
         section_card("Scenario", ScenarioSource(state)),

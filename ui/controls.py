@@ -40,11 +40,12 @@ def status_html(state):
 class RunControls(Viewer):
     """Run (damped and undamped) / Cancel, with a progress bar and status line."""
 
-    def __init__(self, state, link=None, on_finished=None, **params):
+    def __init__(self, state, link=None, on_finished=None, on_started=None, **params):
         super().__init__(**params)
         self.state = state
         self.link = link if link is not None else SessionLink()
         self.on_finished = on_finished
+        self.on_started = on_started
         self.run = pn.widgets.Button(label="▶  Run", color="primary", width=150, height=38, margin=(4, 6),
                                      css_classes=["run-button"])
         self.cancel = pn.widgets.Button(label="■  Cancel", width=110, height=38, margin=(4, 6), disabled=True,
@@ -90,6 +91,8 @@ class RunControls(Viewer):
         self.cancel.disabled = False
         self._status_changed()
         controller = self.state.controller
+        if self.on_started is not None:
+            self.on_started()
         # a run replaced by a newly opened scenario is over for this page
         self.link.watch(lambda: self.state.controller is not controller or self.state.poll(), self._finished)
         return True

@@ -21,6 +21,7 @@ from .editors.source import ScenarioSource
 from .state import LabState
 from .theme import HEADER_CSS, PAGE, html_pane, section_card
 from .views import prepare_drawing
+from .views.beam import BeamNote, BeamView
 from .views.export import ExportView
 from .views.orbits import OrbitView
 from .views.preview import FieldPreview
@@ -33,6 +34,7 @@ CAUTION = ("Research and teaching tool: results are not for radiation-safety or 
 SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
 TAB_SCAN = "Scan"
+TAB_BEAM = "Beam"
 
 
 class Lab(Viewer):
@@ -136,7 +138,7 @@ def create_app(initial_scenario_path=None):
     sidebar = pn.Column(
         section_card("Run", controls),
         section_card("Scenario", ScenarioSource(state)),
-        section_card("Particle", ParticleEditor(state)),
+        section_card("Particle", ParticleEditor(state), BeamNote(state)),
         section_card("Run settings and plan", RunEditor(state)),
         width=SIDEBAR_WIDTH, margin=(0, 0, 0, 6),
     )
@@ -165,6 +167,15 @@ def create_app(initial_scenario_path=None):
     tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab),
                  (TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan))])
     tabs.param.watch(lambda event: tabs._names[event.new] == TAB_SCAN and scan.view, "active")
+    beam_tab = pn.Column(sizing_mode="stretch_width", margin=0)
+
+    def build_beam(*_):
+        # built on the first beam result only: single-particle sessions never pay for it
+        if state.prepared is not None and state.prepared.get("beam") is not None and not beam_tab.objects:
+            beam_tab.objects = [section_card("Beam (damped drawn over undamped)", BeamView(state))]
+
+    state.param.watch(build_beam, "prepared")
+    tabs.append((TAB_BEAM, beam_tab))
     spectrum_error = html_pane("", visible=False, sizing_mode="stretch_width")
     if spectrum is not None:
         tabs.append((TAB_SPECTRUM, pn.Column(spectrum_error, spectrum, sizing_mode="stretch_width")))

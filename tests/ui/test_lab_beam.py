@@ -117,3 +117,10 @@ def test_lab_builds_the_beam_tab_on_the_first_beam_result():
     assert not beam_tab.objects
     lab.state.prepared = prepare_drawing(beam_comparison())
     assert len(beam_tab.objects) == 1
+
+
+def test_summary_of_a_beam_run_points_to_the_beam_tab():
+    from ui.views.summary import summary_html
+
+    text = summary_html(beam_comparison(per_particle=False))
+    assert "see the Beam tab" in text and "summary-table" in text

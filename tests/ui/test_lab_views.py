@@ -12,7 +12,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.app import TAB_BEAM, TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app, spectrum_panel
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -221,10 +221,15 @@ def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
     assert panel is None and message == ""
     lab = create_app()
     assert TAB_SPECTRUM not in lab.tabs._names
-    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN]
+    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_BEAM]
 
 
-@pytest.mark.parametrize("name", sorted(bundled_scenarios()))
+# beam scenarios (a [beam] table, hundreds of particles) are covered by tests/ui/test_lab_beam.py
+# with small beams, which keeps this suite's run time down
+SINGLE_PARTICLE_BUNDLED = sorted(n for n in bundled_scenarios() if n != "laser_bunch_collision.toml")
+
+
+@pytest.mark.parametrize("name", SINGLE_PARTICLE_BUNDLED)
 def test_every_bundled_scenario_previews_runs_and_draws(name):
     lab = create_app()
     assert lab.state.load_bundled(name)

@@ -205,8 +205,8 @@ def _check_field(index, spec, raw):
     values = spec.params
     for param in spec.model.params:
         value = values.get(param.name)
-        if value is None or param.kind == "choice":
-            continue
+        if value is None or param.kind not in ("scalar", "vector"):
+            continue   # choices, files, formulas and tables have no magnitude to check here
         size = _magnitude(value)
         where = f"{key}.{param.name}"
         given = raw.get(param.name)

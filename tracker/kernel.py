@@ -22,7 +22,7 @@ from numba import njit, prange
 
 from . import constants as k
 from .config import KERNEL, LEAF
-from .fields.evaluate import field_at
+from .fields.evaluate import analytic_field_at, bulk_fields_at, field_at, has_bulk_rows
 from .pushers.dispatch import push
 from .radiation.reaction import QUANTUM_STOCHASTIC, radiation_kick
 from .radiation.stochastic import CHI_STOCHASTIC_MIN, emit_step
@@ -254,6 +254,7 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
     spt = species_tuple(sp)
     plt = plan_tuple(pl)
     adaptive = pl[PL_ADAPTIVE] != 0.0
+    bulk = has_bulk_rows(kinds)
     stochastic = int(pl[PL_DAMPING]) == QUANTUM_STOCHASTIC
     for b in prange(n_blocks):
         b0 = b * BLOCK
@@ -266,7 +267,10 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                     continue
                 active += 1
                 s = load_state(state, j)
-                f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                f = analytic_field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                if bulk:
+                    g = bulk_fields_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+                    f = (f[0] + g[0], f[1] + g[1], f[2] + g[2], f[3] + g[3], f[4] + g[4], f[5] + g[5])
                 omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
                 s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
                 if stochastic and chi >= CHI_STOCHASTIC_MIN and s_new[STATUS] == RUNNING:
@@ -318,12 +322,16 @@ def run_single(kinds, params, data, sp, pl, state, n_steps, slot_base,
     spt = species_tuple(sp)
     plt = plan_tuple(pl)
     adaptive = pl[PL_ADAPTIVE] != 0.0
+    bulk = has_bulk_rows(kinds)
     stochastic = int(pl[PL_DAMPING]) == QUANTUM_STOCHASTIC
     s = load_state(state, 0)
     for _ in range(n_steps):
         if s[STATUS] != RUNNING:
             break
-        f = field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+        f = analytic_field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+        if bulk:
+            g = bulk_fields_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
+            f = (f[0] + g[0], f[1] + g[1], f[2] + g[2], f[3] + g[3], f[4] + g[4], f[5] + g[5])
         omega = adaptive_rate(kinds, params, data, spt, plt, s, f) if adaptive else 0.0
         s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
         if stochastic and chi >= CHI_STOCHASTIC_MIN and s_new[STATUS] == RUNNING:

@@ -60,18 +60,37 @@ def field_row(kinds, params, data, i, x, y, z, t):
     return f
 
 
-@njit(**LEAF)
-def field_at(kinds, params, data, x, y, z, t):
-    """E (V/m) and B (T) at (x, y, z) in m and t in s, summed over the table rows.
+@njit(**KERNEL)
+def bulk_field(kind, p, i, data, x, y, z, t):
+    """Field maps and formula fields, kept out of line: their loops, stencils and scratch
+    arrays inlined into ``field_at`` would defeat numba's reference-count pruning of the whole
+    step loop (atomic operations on every step of every scenario, measured 2x slower); out of
+    line they cost one call where they are used. NaN for an unknown kind."""
+    if kind == FIELD_MAP:
+        f = field_map_field(p, i, data, x, y, z, t)
+    elif kind == GAUSSIAN_BEAM:
+        f = gaussian_beam_field(p, i, data, x, y, z, t)
+    elif kind == EXPRESSION:
+        f = expression_field(p, i, data, x, y, z, t)
+    else:
+        f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
+    return f
 
-    The dispatch is written out here rather than calling ``field_row``: numba's
-    reference-count pruning then removes every atomic increment from the step loop
-    (one more inlined level with array arguments leaves them in, measured 2x slower).
-    """
+
+#: kinds evaluated out of line (``bulk_fields_at``): their loops, stencils and scratch arrays
+#: inlined into the step loop would defeat numba's reference-count pruning of the whole loop
+#: (atomic operations on every step of every scenario, measured 2x slower)
+BULK_KINDS = (FIELD_MAP, EXPRESSION, GAUSSIAN_BEAM)
+
+
+@njit(**LEAF)
+def analytic_field_at(kinds, params, data, x, y, z, t):
+    """E (V/m) and B (T) at (x, y, z) m, t s from the rows evaluated inline (bulk rows add zero,
+    an unknown kind gives NaN). The kernels add ``bulk_fields_at`` when the table has bulk rows."""
     ex = ey = ez = bx = by = bz = 0.0
     for i in range(kinds.shape[0]):
         kind = kinds[i]
-        p = params
+        p = params  # evaluators index params[i, j]: a row view here would cost a refcount per call
         if kind == UNIFORM:
             f = uniform_field(p, i, data, x, y, z, t)
         elif kind == PLANE_WAVE:
@@ -84,12 +103,8 @@ def field_at(kinds, params, data, x, y, z, t):
             f = dipole_field(p, i, data, x, y, z, t)
         elif kind == TOKAMAK:
             f = tokamak_field(p, i, data, x, y, z, t)
-        elif kind == FIELD_MAP:
-            f = field_map_field(p, i, data, x, y, z, t)
-        elif kind == GAUSSIAN_BEAM:
-            f = gaussian_beam_field(p, i, data, x, y, z, t)
-        elif kind == EXPRESSION:
-            f = expression_field(p, i, data, x, y, z, t)
+        elif kind == FIELD_MAP or kind == EXPRESSION or kind == GAUSSIAN_BEAM:
+            f = (0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
         else:
             f = (math.nan, math.nan, math.nan, math.nan, math.nan, math.nan)
         ex += f[0]
@@ -99,6 +114,52 @@ def field_at(kinds, params, data, x, y, z, t):
         by += f[4]
         bz += f[5]
     return ex, ey, ez, bx, by, bz
+
+
+@njit(**KERNEL)
+def bulk_fields_at(kinds, params, data, x, y, z, t):
+    """E (V/m) and B (T) of the bulk rows (field maps, formulas, focused beams), out of line."""
+    ex = ey = ez = bx = by = bz = 0.0
+    for i in range(kinds.shape[0]):
+        kind = kinds[i]
+        if kind == FIELD_MAP:
+            f = field_map_field(params, i, data, x, y, z, t)
+        elif kind == EXPRESSION:
+            f = expression_field(params, i, data, x, y, z, t)
+        elif kind == GAUSSIAN_BEAM:
+            f = gaussian_beam_field(params, i, data, x, y, z, t)
+        else:
+            continue
+        ex += f[0]
+        ey += f[1]
+        ez += f[2]
+        bx += f[3]
+        by += f[4]
+        bz += f[5]
+    return ex, ey, ez, bx, by, bz
+
+
+@njit(**LEAF)
+def has_bulk_rows(kinds):
+    """True when the table has a row evaluated by ``bulk_fields_at``."""
+    for i in range(kinds.shape[0]):
+        if kinds[i] == FIELD_MAP or kinds[i] == EXPRESSION or kinds[i] == GAUSSIAN_BEAM:
+            return True
+    return False
+
+
+@njit(**LEAF)
+def field_at(kinds, params, data, x, y, z, t):
+    """E (V/m) and B (T) at (x, y, z) in m and t in s, summed over the table rows.
+
+    For callers outside the step loops (validity, spectra, previews); the loops call
+    ``analytic_field_at`` and, when ``has_bulk_rows``, ``bulk_fields_at`` themselves.
+    """
+    f = analytic_field_at(kinds, params, data, x, y, z, t)
+    if has_bulk_rows(kinds):
+        g = bulk_fields_at(kinds, params, data, x, y, z, t)
+        f = (f[0] + g[0], f[1] + g[1], f[2] + g[2], f[3] + g[3], f[4] + g[4], f[5] + g[5])
+    return f
 
 
 @njit(**LEAF)

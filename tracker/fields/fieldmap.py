@@ -25,7 +25,6 @@ engine names the reason through ``MODEL.outside``; ``"zero"`` returns no field.
 
 import math
 
-import numpy as np
 from numba import njit
 
 from ..config import DATA_OFFSET_SLOT, LEAF
@@ -237,8 +236,3 @@ MODEL = FieldModel(
     rate_label="period of the map's time dependence",
 )
 
-
-def sample_grid(axes):
-    """Points (n, 3) of a Cartesian grid from {'x': a, 'y': b, 'z': c} (m), C order (x slowest)."""
-    gx, gy, gz = np.meshgrid(axes["x"], axes["y"], axes["z"], indexing="ij")
-    return np.column_stack([gx.ravel(), gy.ravel(), gz.ravel()])

@@ -32,7 +32,7 @@ def energy_prefix(joules_values):
 
 
 def _fmt_energy(joules, prefix=None):
-    """Energy (J) in eV with the table's prefix, or with its own when ``prefix`` is None."""
+    """An energy (J) in the eV multiple ``prefix`` (see ``energy_prefix``; default: its own)."""
     from .constants import e
 
     unit, scale = prefix or energy_prefix([joules])

@@ -350,6 +350,46 @@ def test_spectrum_panel_draws_maps_and_spectra_for_both_runs():
             assert len(y) > 100 and np.nanmax(y) > 0
 
 
+# ---------------------------------------------------------------------- parallel kernels under threads
+def test_parallel_spectra_from_two_threads_at_once_match_serial_calls(helix):
+    # two lab sessions may compute spectra at the same moment: numba's parallel kernels must run
+    # under a thread-safe threading layer (tracker.config.THREADING_LAYER), and give the serial answer
+    import threading
+
+    import numba
+
+    from tracker.radiation import synchrotron_spectrum
+
+    u_end = helix.u[-1] / np.linalg.norm(helix.u[-1])
+    omega = np.geomspace(1e9, 1e11, 64)
+    want_direct = spectrum(helix, u_end[None, :], omega, method="direct")
+    want_sync = synchrotron_spectrum(helix, omega)
+    assert numba.threading_layer() in ("omp", "tbb")
+    start = threading.Barrier(4)
+    got, failures = {}, []
+
+    def work(name, call):
+        try:
+            start.wait()
+            for _ in range(3):
+                got[name] = call()
+        except Exception as exc:  # reported below with the thread's name
+            failures.append(f"{name}: {exc!r}")
+
+    calls = {"direct-a": lambda: spectrum(helix, u_end[None, :], omega, method="direct"),
+             "direct-b": lambda: spectrum(helix, u_end[None, :], omega, method="direct"),
+             "sync-a": lambda: synchrotron_spectrum(helix, omega),
+             "sync-b": lambda: synchrotron_spectrum(helix, omega)}
+    threads = [threading.Thread(target=work, args=item) for item in calls.items()]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    assert failures == []
+    for name, value in got.items():
+        np.testing.assert_array_equal(value, want_direct if name.startswith("direct") else want_sync)
+
+
 def test_spectrum_panel_takes_a_photon_range_and_a_direction():
     from ui.views.spectrum import SpectrumPanel
 

@@ -14,6 +14,7 @@ from tracker import Scenario, track
 from tracker import constants as k
 from tracker.fields.laser import SIN2_FWHM_FRACTION
 from tracker.regime import regime, regime_rows
+from tracker.stops import StopReason
 from tracker.validity import check_result
 
 ALL_KINDS = {"resolution", "quantum", "radiation-dominated", "domain", "nonfinite"}
@@ -180,7 +181,7 @@ def dipole_hit():
 
 def test_nonfinite_stop_and_dipole_centre():
     r = track(dipole_hit())
-    assert "non-finite" in r.meta["stop_reason"]
+    assert r.meta["stop_reason"] == StopReason.NONFINITE
     assert {"nonfinite", "domain"} <= kinds(r)
     (w,) = [w for w in r.warnings if w["kind"] == "nonfinite"]
     assert w["time"] == pytest.approx(r.t[-1])

@@ -5,6 +5,7 @@ import sys
 from pathlib import Path
 
 from .errors import ScenarioError
+from .stops import StopReason
 
 EXIT_FAILED = 1       #: an output could not be written (the result was kept in the temp folder)
 EXIT_BAD_INPUT = 2
@@ -31,10 +32,11 @@ def energy_prefix(joules_values):
     return "eV", 1.0
 
 
-def _fmt_energy(joules, prefix):
+def _fmt_energy(joules, prefix=None):
+    """An energy (J) in the eV multiple ``prefix`` (see ``energy_prefix``; default: its own)."""
     from .constants import e
 
-    unit, scale = prefix
+    unit, scale = prefix or energy_prefix([joules])
     return f"{joules / e / scale:.6g} {unit}"
 
 
@@ -285,7 +287,7 @@ def cmd_run(args):
                 path = out if len(results) == 1 else out.with_name(f"{out.stem}-{name}{out.suffix}")
                 ok = _write(r, path) and ok
         interrupted = deferred.caught
-    if interrupted or any(r.meta.get("stop_reason") == "cancelled" for r in results.values()):
+    if interrupted or any(r.meta.get("stop_reason") == StopReason.CANCELLED for r in results.values()):
         return EXIT_CANCELLED
     if not ok:
         return EXIT_FAILED
@@ -332,12 +334,9 @@ def cmd_check(args):
         ["fastest time scale", f"{plan.period:.6g} s ({plan.period_source})" if plan.period else "none found"],
         ["resolution", f"{plan.steps_per_period:.4g} steps per period" if plan.steps_per_period else "-"],
     ]
-    try:
-        from .regime import regime_rows
-    except ImportError:
-        regime_rows = None
-    if regime_rows is not None:
-        rows += [list(r) for r in regime_rows(scenario)]
+    from .regime import regime_rows
+
+    rows += [list(r) for r in regime_rows(scenario)]
     print_table(["check", "value"], rows)
     from .validity import field_advice
 
@@ -367,7 +366,8 @@ def cmd_fieldmap(args):
 def cmd_lab(args):
     from ui.app import serve
 
-    return serve(args.scenario, port=args.port, address=args.address, show=args.show) or 0
+    return serve(args.scenario, port=args.port, address=args.address, show=args.show,
+                 allow_hosts=args.allow_host) or 0
 
 
 def cmd_spectrum(args):
@@ -416,6 +416,8 @@ def build_parser():
     lab.add_argument("scenario", nargs="?", help="scenario TOML to start from (default: a bundled one)")
     lab.add_argument("--port", type=int, default=5006, help="port (default 5006)")
     lab.add_argument("--address", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
+    lab.add_argument("--allow-host", action="append", default=[], metavar="NAME",
+                     help="also answer to this host name (repeatable); loopback names and --address always")
     lab.add_argument("--show", action="store_true", help="open a browser tab")
     lab.set_defaults(func=cmd_lab)
 

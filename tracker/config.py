@@ -7,6 +7,25 @@ divisions alive (measured ~8x on particle loops). ``fastmath`` stays off:
 NaN/Inf detection of lost particles must keep working.
 """
 
+import os
+
+import numba
+
+#: numba threading layer for ``parallel=True`` kernels (spectra). Chosen explicitly because
+#: the lab calls them from several sessions' worker threads at once, and numba's built-in
+#: ``workqueue`` layer is not thread-safe (concurrent launches abort the process).
+#: ``"threadsafe"`` makes numba load a thread-safe layer (TBB if installed, else GNU
+#: OpenMP, which is what Linux machines get) or fail loudly instead of falling back.
+#: No part of radorbit forks a process that has run a parallel kernel (the omp layer
+#: is not fork-safe; subprocesses are started with fork+exec). A user's own
+#: ``NUMBA_THREADING_LAYER`` wins.
+THREADING_LAYER = "threadsafe"
+if "NUMBA_THREADING_LAYER" not in os.environ:
+    numba.config.THREADING_LAYER = THREADING_LAYER
+# GNU OpenMP threads spin while idle by default, which starves the other threads of a
+# busy machine (the engine's runs, the lab's server); waiting passively costs nothing here.
+os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
+
 #: options for every @njit kernel; cache=True is safe because kernels never
 #: close over per-scenario Python objects (field tables are plain arrays).
 KERNEL = dict(cache=True, nogil=True, error_model="numpy")

@@ -23,13 +23,14 @@ from .radiation.stochastic import HEADER, PC_DROPPED, PC_DROPPED_ENERGY, PC_RECO
 from .result import Result
 from .step import (FINISHED, KICK_TOO_LARGE, NONFINITE, PL_DAMPING, PL_GRID, PL_INTERVAL, PL_LAST, PL_PHOTON_MIN,
                    RUNNING, SAVED, STATUS, STEP, T, X)
+from .stops import StopReason
 
-STOP_COMPLETED = "completed"
-STOP_CANCELLED = "cancelled"
-STOP_NONFINITE = "non-finite values (run stopped, last good state kept)"
-STOP_MAX_STEPS = "max_steps reached before the end of the run"
-STOP_KICK = "radiation kick too large for one step (run stopped, last good state kept): use a finer step"
-STOP_LEFT_DOMAIN = "left the domain of a field model"
+STOP_COMPLETED = StopReason.COMPLETED
+STOP_CANCELLED = StopReason.CANCELLED
+STOP_NONFINITE = StopReason.NONFINITE
+STOP_MAX_STEPS = StopReason.MAX_STEPS
+STOP_KICK = StopReason.RADIATION_KICK_TOO_LARGE
+STOP_LEFT_DOMAIN = StopReason.LEFT_DOMAIN
 
 #: per-particle stop codes of a BeamResult (``lost``); 0 = ran to the end
 LOST_NONE, LOST_NONFINITE, LOST_KICK, LOST_MAX_STEPS, LOST_DOMAIN = 0, 1, 2, 3, 4
@@ -340,12 +341,15 @@ def track(scenario, progress=None, cancel=None):
     sink = _PhotonSink(bundle)
     arrays, _, state, wall, load_time, _ = run_bundle(bundle, scenario, progress, cancel, photon_sink=sink)
     stop, lost = _stop_reason(scenario, bundle, state)
+    detail = ""
     if lost[0] == LOST_DOMAIN:
-        stop = f"{STOP_LEFT_DOMAIN}: {outside_reason(scenario, state[X:X + 3, 0])} (run stopped, last good state kept)"
+        detail = f"{outside_reason(scenario, state[X:X + 3, 0])} (run stopped, last good state kept)"
     one = {name: (a[:, 0] if a.ndim == 2 else a[:, 0, :]) for name, a in arrays.items()}
     if len(one["t"]) == 0:
         one = _initial_record(scenario, bundle)   # failed on the first step: keep the valid start
     meta = _meta(scenario, bundle, state, stop, wall, load_time)
+    if detail:
+        meta["stop_detail"] = detail
     result = Result(scenario=scenario, meta=meta, **{name: np.ascontiguousarray(one[name]) for name in ARRAY_NAMES})
     result.photons = sink.table(bundle)
     _attach_warnings(result)

@@ -194,10 +194,11 @@ def _plain(value):
 
 
 def _magnitude(value):
-    if isinstance(value, tuple):
+    """|value| of a number or a tuple of numbers; 0 for anything else (names, formulas)."""
+    if isinstance(value, tuple) and value and all(_plain(v) for v in value):
         with np.errstate(over="ignore"):
-            return float(np.linalg.norm(value))
-    return abs(value) if isinstance(value, (int, float)) else 0.0
+            return float(np.linalg.norm(np.asarray(value, dtype=float)))
+    return abs(value) if _plain(value) else 0.0
 
 
 def _check_field(index, spec, raw):
@@ -205,8 +206,8 @@ def _check_field(index, spec, raw):
     values = spec.params
     for param in spec.model.params:
         value = values.get(param.name)
-        if value is None or param.kind == "choice":
-            continue
+        if value is None or param.kind not in ("scalar", "vector"):
+            continue   # choices, files, formulas and tables have no magnitude to check here
         size = _magnitude(value)
         where = f"{key}.{param.name}"
         given = raw.get(param.name)

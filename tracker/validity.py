@@ -54,6 +54,7 @@ import math
 import numpy as np
 
 from . import constants as k
+from .stops import StopReason
 from .timescales import describe
 
 #: largest accepted gyration-phase error per period. The Boris rotation turns by
@@ -292,8 +293,7 @@ def field_advice(scenario):
 
 def check_nonfinite(result):
     """'nonfinite' when the engine stopped on NaN or Inf (``meta["stop_reason"]``)."""
-    reason = str(result.meta.get("stop_reason", ""))
-    if "non-finite" not in reason:
+    if StopReason.of(result.meta.get("stop_reason")) is not StopReason.NONFINITE:
         return []
     t_last = float(result.t[-1]) if len(result.t) else 0.0
     return [warning(

@@ -7,6 +7,7 @@ tab does not hold up another.
 
 import html
 import sys
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import panel as pn
@@ -18,7 +19,9 @@ from .editors.fields import FieldComposer
 from .editors.particle import ParticleEditor
 from .editors.run import RunEditor
 from .editors.source import ScenarioSource
+from .session import SessionLink
 from .state import LabState
+from .tabs import LazyTabs, TabSpec
 from .theme import HEADER_CSS, PAGE, html_pane, section_card
 from .views import prepare_drawing
 from .views.beam import BeamNote, BeamView
@@ -26,6 +29,7 @@ from .views.export import ExportView
 from .views.orbits import OrbitView
 from .views.preview import FieldPreview
 from .views.series import SeriesView
+from .views.spectrum import SpectrumPanel
 from .views.summary import SummaryView
 
 TITLE = "radorbit lab"
@@ -37,17 +41,37 @@ TAB_SCAN = "Scan"
 TAB_BEAM = "Beam"
 
 
+@dataclass
+class LabContext:
+    """What a tab's builder gets: the session's state and its link to the page's event loop."""
+
+    state: LabState
+    link: SessionLink
+    views: dict = field(default_factory=dict)  #: views by name, once built (for tests and scripts)
+    show_results: object = None  #: callable() that brings the Results tab forward (set by create_app)
+
+
 class Lab(Viewer):
     """One session's page, with handles on its state and parts (for tests and scripts)."""
 
-    def __init__(self, state, page, tabs, controls, spectrum=None, scan=None):
+    def __init__(self, state, page, tabs, controls, link):
         super().__init__()
-        self.scan = scan
         self.state = state
         self.page = page
         self.tabs = tabs
         self.controls = controls
-        self.spectrum = spectrum
+        self.link = link
+
+    @property
+    def spectrum(self):
+        """The Spectrum view (built on first use)."""
+        return self.tabs.build(self.tabs.index(TAB_SPECTRUM))
+
+    @property
+    def scan(self):
+        """The Scan tab's content (built on first use)."""
+        self.tabs.build(self.tabs.index(TAB_SCAN))
+        return self.tabs.context.views["scan"]
 
     def __panel__(self):
         return self.page
@@ -60,35 +84,12 @@ def load_initial(state, initial_scenario_path=None):
     path = Path(initial_scenario_path)
     try:
         text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        state.source_error = f"cannot read {str(path)!r}: {exc.strerror}; opened a bundled scenario instead."
-        message = state.source_error
+    except (OSError, UnicodeDecodeError) as exc:
+        reason = exc.strerror if isinstance(exc, OSError) else "not a UTF-8 text file"
         state.load_bundled(DEFAULT_SCENARIO)
-        state.source_error = message
+        state.source_error = f"cannot read {str(path)!r}: {reason}; opened a bundled scenario instead."
         return False
     return state.load_toml(text, path.name, base_dir=path.resolve().parent)
-
-
-def spectrum_panel():
-    """A new ``SpectrumPanel`` from ``ui.views.spectrum``; None when that module is absent.
-
-    Returns
-    -------
-    (panel or None, message)
-        ``message`` explains a module that exists but failed to load (shown in its tab).
-    """
-    try:
-        from .views.spectrum import SpectrumPanel
-    except ModuleNotFoundError as exc:
-        if exc.name in ("ui.views.spectrum", __package__ + ".views.spectrum"):
-            return None, ""
-        return None, f"The spectrum view could not be loaded: {exc}"
-    except Exception as exc:  # another helper's module: report, keep the lab working
-        return None, f"The spectrum view could not be loaded: {type(exc).__name__}: {exc}"
-    try:
-        return SpectrumPanel(), ""
-    except Exception as exc:
-        return None, f"The spectrum view could not start: {type(exc).__name__}: {exc}"
 
 
 def header_html(state):
@@ -96,6 +97,70 @@ def header_html(state):
     return (f'<div class="ro-header"><span class="ro-brand">radorbit<small>lab</small></span>'
             f'<span class="ro-title" id="scenario-title">{html.escape(str(title or "untitled scenario"))}</span>'
             f'<span class="ro-caution" id="caution">{html.escape(CAUTION)}</span></div>')
+
+
+def fields_tab(context):
+    preview = pn.Column(html_pane('<div class="ro-note" id="preview-pending">drawing the field preview…</div>'),
+                        sizing_mode="stretch_width", margin=0)
+
+    def build_preview():
+        preview.objects = [FieldPreview(context.state)]
+
+    doc = pn.state.curdoc
+    if doc is not None and doc.session_context is not None:
+        # the preview's figures are half of a session's build: made once the page is up, so a page
+        # load returns sooner (and the server sooner turns to other requests)
+        pn.state.onload(build_preview)
+    else:
+        build_preview()
+    return pn.Column(
+        section_card("Field components (forms generated from the field registry)", FieldComposer(context.state)),
+        section_card("Field preview", preview),
+        sizing_mode="stretch_width", margin=0,
+    )
+
+
+def results_tab(context):
+    state = context.state
+    plots = pn.Column(sizing_mode="stretch_width", margin=0)
+
+    def build_plots(*_):
+        # the result figures are made with the first result, which keeps page loads light
+        if state.prepared is not None and not plots.objects:
+            context.views.update(orbits=OrbitView(state), series=SeriesView(state))
+            plots.objects = [
+                section_card("Orbit projections (zoom one, the others follow)", context.views["orbits"]),
+                section_card("Time series", context.views["series"]),
+            ]
+
+    state.param.watch(build_plots, "prepared")
+    build_plots()
+    return pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
+                     sizing_mode="stretch_width", margin=0)
+
+
+def spectrum_tab(context):
+    return SpectrumPanel(context.state, context.link)
+
+
+#: the main area's tabs, in order; a new view is one more entry (built lazily per session)
+def scan_tab(context):
+    from .views.scan import ScanTab
+
+    scan = context.views["scan"] = ScanTab(context.state, on_open=context.show_results)
+    context.link.on_gone(scan.cancel)
+    scan.view  # noqa: B018 -- the tab is being shown: build its content now
+    return section_card("Parameter scan (tracker.sweep)", scan)
+
+
+def beam_tab(context):
+    # a [beam] run's heat map, statistics and orbits; says what to do before a beam has run
+    beam = context.views["beam"] = BeamView(context.state)
+    return section_card("Beam (damped drawn over undamped)", beam)
+
+
+TABS = [TabSpec(TAB_FIELDS, fields_tab), TabSpec(TAB_RESULTS, results_tab), TabSpec(TAB_SCAN, scan_tab),
+        TabSpec(TAB_SPECTRUM, spectrum_tab), TabSpec(TAB_BEAM, beam_tab)]
 
 
 def create_app(initial_scenario_path=None):
@@ -113,28 +178,23 @@ def create_app(initial_scenario_path=None):
     """
     state = LabState(prepare=prepare_drawing)
     load_initial(state, initial_scenario_path)
+    link = SessionLink()
+    link.on_gone(state.cancel_run)
 
     header = html_pane(header_html(state), stylesheets=[HEADER_CSS], sizing_mode="stretch_width",
                        margin=(6, 6, 4, 6))
     state.param.watch(lambda *_: setattr(header, "object", header_html(state)), ["scenario", "draft"])
 
-    spectrum, spectrum_message = spectrum_panel()
-    tabs = pn.Tabs(dynamic=True, sizing_mode="stretch_width", margin=(0, 0, 0, 10))
+    context = LabContext(state, link)
+    tabs = LazyTabs(TABS, context)
 
     def finished():
         if state.comparison is not None and state.status in ("completed", "cancelled", "stopped"):
-            tabs.active = 1
-            if spectrum is not None:
-                try:
-                    spectrum.update(state.comparison)
-                    spectrum_error.visible = False
-                except Exception as exc:  # shown in its tab, never a traceback
-                    spectrum_error.object = (f'<div class="ro-error" style="color:#b3261e">The spectrum could not '
-                                             f"be computed: {html.escape(type(exc).__name__)}: "
-                                             f"{html.escape(str(exc))}</div>")
-                    spectrum_error.visible = True
+            tabs.show(TAB_RESULTS)
 
-    controls = RunControls(state, on_finished=finished)
+    context.show_results = finished
+
+    controls = RunControls(state, link=link, on_finished=finished)
     sidebar = pn.Column(
         section_card("Run", controls),
         section_card("Scenario", ScenarioSource(state)),
@@ -143,66 +203,14 @@ def create_app(initial_scenario_path=None):
         width=SIDEBAR_WIDTH, margin=(0, 0, 0, 6),
     )
 
-    fields_tab = pn.Column(
-        section_card("Field components (forms generated from the field registry)", FieldComposer(state)),
-        section_card("Field preview", FieldPreview(state)),
-        sizing_mode="stretch_width", margin=0,
-    )
-    plots = pn.Column(sizing_mode="stretch_width", margin=0)
-
-    def build_plots(*_):
-        # the eight result figures are made on the first result, which keeps page loads light
-        if state.prepared is not None and not plots.objects:
-            plots.objects = [
-                section_card("Orbit projections (zoom one, the others follow)", OrbitView(state)),
-                section_card("Time series", SeriesView(state)),
-            ]
-
-    state.param.watch(build_plots, "prepared")
-    results_tab = pn.Column(section_card("Summary", SummaryView(state), ExportView(state)), plots,
-                            sizing_mode="stretch_width", margin=0)
-    from .views.scan import ScanTab
-
-    scan = ScanTab(state, on_open=finished)
-    tabs.extend([(TAB_FIELDS, fields_tab), (TAB_RESULTS, results_tab),
-                 (TAB_SCAN, section_card("Parameter scan (tracker.sweep)", scan))])
-    tabs.param.watch(lambda event: tabs._names[event.new] == TAB_SCAN and scan.view, "active")
-    beam_tab = pn.Column(sizing_mode="stretch_width", margin=0)
-
-    def build_beam(*_):
-        # built on the first beam result only: single-particle sessions never pay for it
-        if state.prepared is not None and state.prepared.get("beam") is not None and not beam_tab.objects:
-            beam_tab.objects = [section_card("Beam (damped drawn over undamped)", BeamView(state))]
-
-    state.param.watch(build_beam, "prepared")
-    tabs.append((TAB_BEAM, beam_tab))
-    spectrum_error = html_pane("", visible=False, sizing_mode="stretch_width")
-    if spectrum is not None:
-        tabs.append((TAB_SPECTRUM, pn.Column(spectrum_error, spectrum, sizing_mode="stretch_width")))
-    elif spectrum_message:
-        tabs.append((TAB_SPECTRUM, html_pane(f'<div class="ro-note">{html.escape(spectrum_message)}</div>')))
-
-
-    if pn.state.curdoc is not None:
-        # a closed tab stops its run at the next chunk instead of computing for nobody
-        pn.state.on_session_destroyed(lambda _context: state.cancel_run())
-        pn.state.on_session_destroyed(lambda _context: scan.cancel())
+    if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
+        # the session's end (Bokeh drops it a few seconds after its tab closed) also stops its work;
+        # the link stops it sooner, as soon as it sees the tab gone
+        pn.state.on_session_destroyed(lambda _context: link.cancel_all())
 
     page = pn.Column(header, pn.Row(sidebar, tabs, sizing_mode="stretch_width", margin=0),
                      sizing_mode="stretch_width", styles={"background": PAGE}, margin=0)
-    return Lab(state=state, page=page, tabs=tabs, controls=controls, spectrum=spectrum, scan=scan)
-
-
-def websocket_origins(address, port):
-    """Origins allowed to open the lab's websocket for a bind address."""
-    hosts = {address}
-    if address in ("127.0.0.1", "localhost", "::1"):
-        hosts |= {"127.0.0.1", "localhost"}
-    elif address in ("0.0.0.0", "::", ""):
-        import socket
-
-        hosts = {"127.0.0.1", "localhost", socket.gethostname(), socket.getfqdn()}
-    return sorted(f"{h}:{port}" for h in hosts if h)
+    return Lab(state=state, page=page, tabs=tabs, controls=controls, link=link)
 
 
 def port_problem(address, port):
@@ -245,7 +253,7 @@ def browser_problem():
     return ""
 
 
-def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False):
+def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False, allow_hosts=()):
     """Serve the lab until interrupted (the ``radorbit lab`` command).
 
     Parameters
@@ -257,21 +265,26 @@ def serve(scenario_path=None, port=5006, address="127.0.0.1", show=False):
         Address to bind; loopback by default (the lab has no authentication).
     show : bool
         Open a browser tab.
+    allow_hosts : iterable of str
+        Host names to answer to besides the loopback names and ``address`` (``ui.server``).
     """
+    from .server import LabServer
+
     if scenario_path is not None and not Path(scenario_path).is_file():
         print(f"radorbit: error: cannot read scenario file {str(scenario_path)!r}", file=sys.stderr)
         return 2
-    url = f"http://{'127.0.0.1' if address in ('0.0.0.0', '::') else address}:{port}/"
     problem = port_problem(address, port)
     if problem:
         print(f"radorbit: error: {problem}", file=sys.stderr)
         return 1
+    server = LabServer(lambda: create_app(scenario_path), port=port, address=address, allow_hosts=allow_hosts,
+                       title=TITLE)
     if show:
         problem = browser_problem()
         if problem:
-            print(f"radorbit lab: cannot open a browser ({problem}); open {url} yourself", file=sys.stderr)
+            print(f"radorbit lab: cannot open a browser ({problem}); open {server.url} yourself", file=sys.stderr)
             show = False
-    print(f"radorbit lab: serving on {url} (Ctrl-C stops)", flush=True)
-    pn.serve(lambda: create_app(scenario_path), port=port, address=address, show=show, title=TITLE,
-             websocket_origin=websocket_origins(address, port), verbose=False, threaded=False)
+    print(f"radorbit lab: serving on {server.url} (Ctrl-C stops); answering to host names "
+          f"{', '.join(sorted(server.hosts))}", flush=True)
+    server.run(show=show)
     return 0

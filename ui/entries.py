@@ -67,3 +67,16 @@ def vector_entries(value):
         return ["", "", ""]
     # a malformed value from a file: show it whole so the user sees what to fix
     return [raw_to_entry(value), "", ""]
+
+
+def list_to_raw(text):
+    """Raw value of a list input ("1 ns, 2.5 ns"): a list of raw values, None when empty."""
+    parts = [part for part in (text or "").split(",") if part.strip()]
+    return [entry_to_raw(part) for part in parts] if parts else None
+
+
+def list_entry(value):
+    """Box text of a raw list value."""
+    if isinstance(value, (list, tuple)):
+        return ", ".join(raw_to_entry(v) for v in value)
+    return raw_to_entry(value)

@@ -1,52 +1,21 @@
-"""What the particle and run editors ask for: each input's kind, dimension and help.
+"""What the particle and run editors ask for, read from the engine's input descriptors.
 
-Field inputs need no table here: they come from ``tracker.fields.MODELS``. Choices
-(species, momentum keys, pushers, radiation-reaction models) are read from the
-engine's registries when a form is built, so new entries appear without UI edits.
+The inputs themselves (name, kind, dimension, unit, bounds, default, label, doc) are
+``tracker.inputs``: the same list the scenario parser and the TOML writer read, so a
+new [run] or [particle] key appears in the forms with no change here. Field inputs come
+from ``tracker.fields.MODELS``. This module keeps only what is about the page: which
+inputs go together, short labels of choices, and example quantities for hints.
 """
 
-import dataclasses
-from dataclasses import dataclass
-
+from tracker import inputs
 from tracker import scenario as schema
-from tracker.units import SI_UNITS
+from tracker.fields.base import REQUIRED
 
+#: particle inputs by name (``tracker.inputs.Input``: ``label``, ``kind``, ``unit``, ``parse``, ...)
+PARTICLE_ENTRIES = inputs.PARTICLE
 
-@dataclass(frozen=True)
-class Entry:
-    """One input of the particle or run editor.
-
-    ``kind`` is ``"scalar"``, ``"vector"`` or ``"integer"``; ``dimension`` is a key
-    of ``tracker.units.SI_UNITS``.
-    """
-
-    name: str
-    kind: str
-    dimension: str
-    label: str
-    doc: str = ""
-
-    @property
-    def unit(self):
-        return SI_UNITS[self.dimension]
-
-
-PARTICLE_ENTRIES = {
-    e.name: e
-    for e in (
-        Entry("position", "vector", "length", "position", "start position"),
-        Entry("gamma", "scalar", "dimensionless", "γ", "Lorentz factor at the start (at least 1)"),
-        Entry("kinetic_energy", "scalar", "energy", "kinetic energy", "kinetic energy at the start"),
-        Entry("speed", "scalar", "velocity", "speed", "speed at the start (below c)"),
-        Entry("momentum", "vector", "momentum", "momentum p", "momentum vector at the start"),
-        Entry("u", "vector", "dimensionless", "u = γβ", "normalised momentum vector at the start"),
-        Entry("direction", "vector", "dimensionless", "direction", "direction of motion (normalised for you)"),
-        Entry("charge_state", "scalar", "dimensionless", "charge state Z", "ion charge in units of e"),
-        Entry("mass_number", "scalar", "dimensionless", "mass number A", "nucleons in the ion"),
-        Entry("mass", "scalar", "mass", "mass", "rest mass"),
-        Entry("charge", "scalar", "charge", "charge", "signed charge"),
-    )
-}
+#: [run] inputs by name
+RUN_ENTRIES = inputs.RUN
 
 #: extra particle inputs per species that needs them
 SPECIES_EXTRAS = {"ion": ("charge_state", "mass_number"), "custom": ("mass", "charge")}
@@ -58,22 +27,6 @@ MOMENTUM_LABELS = {
     "speed": "speed",
     "momentum": "momentum vector p",
     "u": "vector u = γβ",
-}
-
-RUN_ENTRIES = {
-    e.name: e
-    for e in (
-        Entry("duration", "scalar", "time", "duration", "simulated time"),
-        Entry("dt", "scalar", "time", "time step dt", "fixed time step"),
-        Entry("steps_per_period", "scalar", "dimensionless", "steps per period",
-              "steps per fastest initial time scale (gyration or field period)"),
-        Entry("save_every", "integer", "dimensionless", "save every", "keep every n-th step"),
-        Entry("max_steps", "integer", "dimensionless", "max steps", "refuse plans longer than this"),
-        Entry("adaptive", "boolean", "dimensionless", "adaptive step",
-              "let the step follow the local time scale as it changes"),
-        Entry("dt_min", "scalar", "time", "smallest dt", "lower bound of the adaptive step"),
-        Entry("dt_max", "scalar", "time", "largest dt", "upper bound of the adaptive step"),
-    )
 }
 
 #: [run] inputs shown only with adaptive = true
@@ -103,7 +56,7 @@ EXAMPLES = {
 
 def species_names():
     """Species the Scenario accepts (read from the engine)."""
-    return tuple(schema.SPECIES_NAMES)
+    return tuple(inputs.SPECIES_NAMES)
 
 
 def momentum_keys():
@@ -122,11 +75,11 @@ def run_keys():
 
 
 def run_default(name):
-    """Default of a [run] entry from the engine's RunSpec (None when it has none)."""
-    for f in dataclasses.fields(schema.RunSpec):
-        if f.name == name:
-            return None if f.default is dataclasses.MISSING else f.default
-    return None
+    """Default of a [run] input from its descriptor (None when it has none)."""
+    entry = RUN_ENTRIES.get(name)
+    if entry is None or entry.default is REQUIRED:
+        return None
+    return entry.default
 
 
 def pusher_names():

@@ -10,15 +10,63 @@ import copy
 
 import param
 
-from tracker import Scenario, ScenarioError
+from tracker import Scenario, ScenarioError, plausibility
 from tracker.fields import MODELS as FIELD_MODELS
+from tracker.stops import StopReason
 
 from . import schema
 from .bundled import bundled_path
 from .runner import RunController
 
 #: run states shown by the page
-STATUSES = ("idle", "running", "completed", "cancelled", "stopped", "failed")
+STATUSES = ("idle", "queued", "running", "completed", "cancelled", "stopped", "failed")
+
+#: largest scenario file the lab reads, bytes (the engine's own limit)
+MAX_SCENARIO_BYTES = plausibility.MAX_SCENARIO_BYTES
+
+
+def value_errors(draft):
+    """Every input value that is wrong on its own, checked by its descriptor: {key path: message}.
+
+    Cross-input rules (exactly one momentum key, dt_min <= dt_max, ...) are left to
+    ``Scenario.from_dict``; this pass only makes sure that several bad boxes are all
+    named at once, not just the first one the Scenario meets.
+    """
+    errors = {}
+
+    def check(entry, raw, key):
+        try:
+            entry.parse(raw, key)
+        except ScenarioError as exc:
+            errors.setdefault(exc.key or key, _capped(str(exc)))
+        except Exception as exc:  # a value no parser expected: still one message under its box
+            errors.setdefault(key, f"{key}: cannot read {raw!r} ({type(exc).__name__}).")
+
+    for table, entries in (("run", schema.RUN_ENTRIES), ("particle", schema.PARTICLE_ENTRIES)):
+        values = draft.get(table)
+        if isinstance(values, dict):
+            for name, raw in values.items():
+                if name in entries:
+                    check(entries[name], raw, f"{table}.{name}")
+    fields = draft.get("field")
+    for i, raw_field in enumerate(fields if isinstance(fields, list) else []):
+        if not isinstance(raw_field, dict):
+            continue
+        model = field_model(raw_field.get("type"))
+        if model is None:
+            if "type" in raw_field:
+                errors[f"field[{i}].type"] = (f"field[{i}].type: must be one of "
+                                              f"{', '.join(map(repr, FIELD_MODELS))}, not {raw_field['type']!r}.")
+            continue
+        for p in model.params:
+            if p.name in raw_field:
+                check(p, raw_field[p.name], f"field[{i}].{p.name}")
+    return errors
+
+
+def field_model(type_name):
+    """The registered field model of a raw ``type`` value, or None (also for unhashable values)."""
+    return FIELD_MODELS.get(type_name) if isinstance(type_name, str) else None
 
 
 def key_path(path):
@@ -60,6 +108,10 @@ class LabState(param.Parameterized):
 
     error_key = param.String(default="", doc="Key path the engine named, e.g. 'field[0].B0'.")
 
+    errors = param.Dict(default={}, doc="""
+        Every known problem of the draft as {key path: message}: each value that is wrong
+        on its own, plus the Scenario's message for a rule across inputs.""")
+
     source = param.String(default="", doc="Where the draft came from (file name or 'upload: name').")
 
     source_error = param.String(default="", doc="Why the last load failed ('' after a good load).")
@@ -97,6 +149,10 @@ class LabState(param.Parameterized):
         if not isinstance(data, dict):
             self.source_error = f"a scenario is a table of keys, not {type(data).__name__}."
             return False
+        if plausibility.nesting_depth(data) > plausibility.MAX_NESTING:
+            self.source_error = (f"{source or 'the file'}: not a scenario: arrays or tables nested more than "
+                                 f"{plausibility.MAX_NESTING} deep; nothing was loaded.")
+            return False
         draft = copy.deepcopy(data)
         fields = draft.get("field", [])
         if isinstance(fields, dict):
@@ -104,9 +160,18 @@ class LabState(param.Parameterized):
         self.source_error = ""
         self.source = source
         self._pending_kind = self._pending_step_mode = None
+        self._forget_results()
         self._set_draft(draft, relayout=True)
         self.loads += 1
         return True
+
+    def _forget_results(self):
+        """Drop the run and results of the previous scenario (a running one is cancelled)."""
+        if self._controller is not None:
+            self._controller.cancel()
+            self._controller = None
+        self.param.update(status="idle", progress=0.0, status_text="", comparison=None, prepared=None,
+                          run_scenario=None)
 
     def store_upload(self, name, content):
         """Keep an uploaded file (bytes) for this session; returns its absolute path (str).
@@ -131,12 +196,10 @@ class LabState(param.Parameterized):
         bool
             True when loaded (the draft may still be invalid: see ``error``).
         """
-        from tracker.plausibility import toml_table
-
         try:
-            data = toml_table(text)   # syntax errors, absurd nesting and size: one line each
+            data = plausibility.toml_table(text)   # syntax errors, absurd nesting and size: one line each
         except ScenarioError as exc:
-            self.source_error = f"{source or 'the file'}: {exc}"
+            self.source_error = f"{source or 'the file'}: {_capped(str(exc))}; nothing was loaded."
             return False
         self.base_dir = None if base_dir is None else str(base_dir)
         return self.load_dict(data, source)
@@ -289,23 +352,27 @@ class LabState(param.Parameterized):
             self.layout_version += 1
 
     def validate(self):
-        """Hand the draft to ``Scenario.from_dict``; keep the Scenario or the engine's message."""
+        """Hand the draft to ``Scenario.from_dict``; keep the Scenario or every message found."""
+        errors = value_errors(self.draft)
         try:
             scenario = Scenario.from_dict(self.draft, base_dir=self.base_dir)
             plan = scenario.plan()
         except ScenarioError as exc:
-            self.param.update(scenario=None, plan=None, error=str(exc), error_key=exc.key)
-            return False
+            message, key = _capped(str(exc)), exc.key
         except Exception as exc:  # an engine bug must not take the page down
-            self.param.update(scenario=None, plan=None,
-                              error=f"the engine could not read this scenario ({type(exc).__name__}: {exc})",
-                              error_key="")
-            return False
-        self.param.update(scenario=scenario, plan=plan, error="", error_key="")
-        return True
+            message, key = _capped(f"the engine could not read this scenario ({type(exc).__name__}: {exc})"), ""
+        else:
+            self.param.update(scenario=scenario, plan=plan, error="", error_key="", errors={})
+            return True
+        if not any(error_belongs_to(k, key) or error_belongs_to(key, k) for k in errors):
+            errors = {key: message, **errors}
+        first_key = next(iter(errors)) if key in errors else key
+        self.param.update(scenario=None, plan=None, error=errors.get(first_key, message), error_key=first_key,
+                          errors=errors)
+        return False
 
     def toml_text(self):
-        """The validated scenario as TOML in SI (None while the draft is invalid)."""
+        """The validated scenario as TOML, values as entered ("120 fs"); None while the draft is invalid."""
         return None if self.scenario is None else self.scenario.to_toml()
 
     @property
@@ -335,15 +402,16 @@ class LabState(param.Parameterized):
         if self.scenario is None or self.running:
             return False
         self._controller = RunController(self.scenario, job=job, prepare=self._prepare).start()
-        self.param.update(status="running", progress=0.0,
-                          status_text="starting: loading compiled kernels…")
+        self.param.update(status="queued", progress=0.0, status_text="")
+        self.poll()
         return True
 
     def cancel_run(self):
         """Ask the running engine to stop; it keeps and marks what it computed."""
         if self.running:
             self._controller.cancel()
-            self.status_text = "cancelling at the next chunk of steps…"
+            if self._controller.started:
+                self.status_text = "cancelling at the next chunk of steps…"
 
     def poll(self):
         """Copy progress, and the outcome once done, from the worker into the state.
@@ -355,10 +423,20 @@ class LabState(param.Parameterized):
         if ctl is None:
             return True
         if not ctl.done:
-            if ctl.reported:
-                self.progress = min(1.0, ctl.fraction)
+            position = ctl.position
+            if position:
+                text = (f"queued: position {position} in line; runs start as earlier ones finish "
+                        "(one per CPU core at a time)")
+                if self.status != "queued" or self.status_text != text:
+                    self.param.update(status="queued", status_text=text)
+            elif ctl.reported:
+                updates = {"status": "running", "progress": min(1.0, ctl.fraction)}
                 if not ctl.cancel_requested:
-                    self.status_text = f"running: {100 * ctl.fraction:.0f} % of the planned steps, {ctl.elapsed:.1f} s"
+                    updates["status_text"] = (f"running: {100 * ctl.fraction:.0f} % of the planned steps, "
+                                              f"{ctl.elapsed:.1f} s")
+                self.param.update(**updates)
+            elif self.status != "running":
+                self.param.update(status="running", status_text="starting: loading compiled kernels…")
             return False
         self._finish(ctl)
         return True
@@ -366,24 +444,31 @@ class LabState(param.Parameterized):
     def _finish(self, ctl):
         self._controller = None
         if ctl.error:
-            self.param.update(status="failed", status_text=ctl.error, run_count=self.run_count + 1)
+            self.param.update(status="failed", status_text=_capped(ctl.error), run_count=self.run_count + 1)
             return
         comparison = ctl.outcome
+        if comparison is None:  # cancelled while it waited in line
+            self.param.update(status="cancelled", progress=0.0, status_text="cancelled before it started",
+                              run_count=self.run_count + 1)
+            return
         damped = getattr(comparison, "damped", comparison)
         meta = damped.meta
-        reason = meta.get("stop_reason", "")
+        reason = StopReason.of(meta.get("stop_reason"))
         steps, planned = meta.get("steps", 0), meta.get("planned_steps", 0)
         if meta.get("complete", False):
             status = "completed"
             text = f"completed: {steps:,} steps per run in {ctl.elapsed:.2f} s"
-        elif reason == "cancelled":
+        elif reason is StopReason.CANCELLED:
             status = "cancelled"
             share = 100.0 * steps / planned if planned else 0.0
             text = (f"cancelled after {steps:,} of {planned:,} steps ({share:.0f} %): "
                     "the partial results below are marked as such")
         else:
             status = "stopped"
-            text = f"stopped early after {steps:,} of {planned:,} steps: {reason}"
+            why = reason.description if reason is not None else str(meta.get("stop_reason", "unknown reason"))
+            if meta.get("stop_detail"):
+                why += f" ({meta['stop_detail']})"
+            text = f"stopped early after {steps:,} of {planned:,} steps: {why}"
         self.param.update(
             run_scenario=ctl.scenario,
             comparison=comparison,
@@ -400,3 +485,11 @@ class LabState(param.Parameterized):
         if ctl is not None:
             ctl.wait(timeout)
         return self.poll()
+
+
+#: longest message shown for one problem (a pasted megabyte must not become a megabyte of page)
+MAX_MESSAGE = 400
+
+
+def _capped(text):
+    return text if len(text) <= MAX_MESSAGE else text[:MAX_MESSAGE - 1] + "…"

@@ -49,3 +49,26 @@ def section_card(title, *objects, **params):
 UNITS_NOTE = ('<div class="ro-note">A plain number is in the SI unit shown at the right; any box also takes '
               "a value with units, e.g. <code>1.5 T</code>, <code>30 fs</code>, <code>2 GeV</code>. "
               "Hover over a name for its meaning.</div>")
+
+
+#: Bokeh's checkbox draws its text beside the box, not in a <label>: a click on the words would do
+#: nothing. The real box is stretched, transparent, over the whole widget (so any click toggles it)
+#: and a look-alike box is drawn before the words.
+CHECKBOX_CSS = """
+:host { position: relative; }
+input[type=checkbox] { position: absolute; inset: 0; width: 100%; height: 100%; margin: 0; opacity: 0;
+                       cursor: pointer; z-index: 1; }
+.bk-label { position: relative; padding-left: 21px; }
+.bk-label::before { content: ""; position: absolute; left: 0; top: 50%; transform: translateY(-50%);
+                    width: 13px; height: 13px; border: 1.5px solid #52606d; border-radius: 3px; background: white; }
+input:checked + .bk-label::before { background: #1d5f8a; border-color: #1d5f8a; }
+input:checked + .bk-label::after { content: "✓"; position: absolute; left: 2.5px; top: 50%;
+                                   transform: translateY(-52%); color: white; font-size: 11px; }
+input:focus-visible + .bk-label::before { outline: 2px solid #65a2cb; }
+"""
+
+
+def checkbox(label, **params):
+    """A checkbox that a click on its words toggles too."""
+    params["stylesheets"] = [CHECKBOX_CSS, *params.get("stylesheets", [])]
+    return pn.widgets.Checkbox(label=label, **params)

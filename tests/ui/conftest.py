@@ -11,6 +11,21 @@ from lab_helpers import ARTIFACTS, CHROMIUM, CHROMIUM_ARGS, SKIP_HINT, free_port
 
 os.environ.setdefault("OMP_WAIT_POLICY", "PASSIVE")
 
+#: how long a browser test waits for a condition: patient, because the suite must pass on a busy
+#: shared machine (it returns as soon as the condition holds; nothing sleeps for a fixed time)
+CONDITION_TIMEOUT_MS = 60_000
+
+
+@pytest.fixture(autouse=True)
+def _patient_conditions(request):
+    if "browser" in request.keywords:
+        from playwright.sync_api import expect
+
+        expect.set_options(timeout=CONDITION_TIMEOUT_MS)
+        if "page" in request.fixturenames:
+            request.getfixturevalue("page").set_default_timeout(CONDITION_TIMEOUT_MS)
+    yield
+
 
 def chromium_available():
     return os.path.exists(CHROMIUM)
@@ -47,20 +62,15 @@ def browser_context_args(browser_context_args):
 @pytest.fixture(scope="module")
 def lab_url():
     """The lab served in this process (``pn.serve(threaded=True)``) on a free loopback port."""
-    import panel as pn
-
     from ui.app import create_app
+    from ui.server import LabServer
 
-    port = free_port()
-    server = pn.serve({"lab": create_app}, port=port, address="127.0.0.1",
-                      websocket_origin=f"127.0.0.1:{port}", threaded=True, show=False, verbose=False)
-    url = f"http://127.0.0.1:{port}/lab"
+    server = LabServer(create_app, port=free_port(), path="/lab").start()
     try:
-        wait_for_http(url)
-        yield url
+        wait_for_http(server.url)
+        yield server.url
     finally:
         server.stop()
-        server.join(10)
 
 
 @pytest.fixture(scope="session")

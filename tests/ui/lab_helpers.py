@@ -21,14 +21,15 @@ def free_port():
         return s.getsockname()[1]
 
 
-def wait_for_http(url, timeout=60.0, process=None):
+def wait_for_http(url, timeout=120.0, process=None):
     """Poll ``url`` until it answers 200; raise after ``timeout`` s."""
     deadline = time.monotonic() + timeout
     while time.monotonic() < deadline:
         if process is not None and process.poll() is not None:
             raise RuntimeError(f"server exited with status {process.returncode}")
         try:
-            with urllib.request.urlopen(url, timeout=5) as response:
+            # one patient request rather than many short ones: on a busy machine a page takes seconds
+            with urllib.request.urlopen(url, timeout=max(1.0, deadline - time.monotonic())) as response:
                 if response.status == 200:
                     return
         except OSError:

@@ -109,14 +109,14 @@ def test_statistics_only_result_shows_the_message_instead_of_the_heat_map():
     assert len(view.curve_sources["damped"].data["emittance_x"]) == 25
 
 
-def test_lab_builds_the_beam_tab_on_the_first_beam_result():
+def test_lab_builds_the_beam_tab_when_shown_and_it_catches_up_with_a_beam_result():
     lab = create_app()
-    names = list(lab.tabs._names)
-    assert TAB_BEAM in names
-    beam_tab = lab.tabs[names.index(TAB_BEAM)]
-    assert not beam_tab.objects
+    assert TAB_BEAM in lab.tabs.titles and TAB_BEAM not in lab.tabs.built
     lab.state.prepared = prepare_drawing(beam_comparison())
-    assert len(beam_tab.objects) == 1
+    lab.tabs.tabs.active = lab.tabs.index(TAB_BEAM)
+    assert TAB_BEAM in lab.tabs.built
+    view = lab.tabs.context.views["beam"]
+    assert view.heat_row.visible and len(view.curve_sources["damped"].data["t"]) == 25
 
 
 def test_summary_of_a_beam_run_points_to_the_beam_tab():

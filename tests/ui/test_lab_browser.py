@@ -51,6 +51,11 @@ def type_into(page, css, text):
     box.press("Enter")
 
 
+def paint(page):
+    """Return once the browser has painted twice since now (canvases drawn before a screenshot)."""
+    page.evaluate("() => new Promise(r => requestAnimationFrame(() => requestAnimationFrame(r)))")
+
+
 def run_and_wait(page, status="completed", runs=1):
     page.locator(".run-button button").click()
     done = page.locator(f'#run-status[data-status="{status}"][data-runs="{runs}"]')
@@ -109,11 +114,11 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts, tmp_path
     page.wait_for_function(
         "() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
         " if (m.data && m.data.gamma && m.data.gamma.length > 10) return true; return false; }")
-    page.wait_for_timeout(500)  # let the canvases paint
+    paint(page)
     page.screenshot(path=str(artifacts / "lab-results.png"), full_page=True)
     page.locator(".bk-tab", has_text="Fields").click()
     expect(page.locator(".in-field-0-a0 input")).to_be_visible()
-    page.wait_for_timeout(500)
+    paint(page)
     page.screenshot(path=str(artifacts / "lab-fields.png"), full_page=True)
     assert errors == []
 
@@ -219,7 +224,7 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
     proc = subprocess.Popen([sys.executable, "-m", "tracker", "lab", str(bundled_path(RING)), "--port", str(port)],
                             stdout=log, stderr=subprocess.STDOUT, cwd=ROOT)
     try:
-        wait_for_http(f"http://127.0.0.1:{port}/", timeout=60, process=proc)
+        wait_for_http(f"http://127.0.0.1:{port}/", process=proc)
         open_lab(page, f"http://127.0.0.1:{port}/")
         expect(page.locator("#scenario-title")).to_have_text(bundled_scenarios()[RING])
         expect(page.locator("#caution")).to_contain_text("not for radiation-safety or shielding decisions")
@@ -227,3 +232,113 @@ def test_the_radorbit_lab_command_serves_the_lab(page, tmp_path):
         stop_server(proc)
         log.close()
 
+
+
+def test_three_bad_values_give_three_messages(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, LASER)
+    type_into(page, ".in-run-duration", "3 parsec")
+    type_into(page, ".in-field-0-wavelength", "-0.8 um")
+    type_into(page, ".in-particle-kinetic_energy", "abc")
+    expect(page.locator("#err-run-duration")).to_contain_text("wrong dimension")
+    expect(page.locator("#err-field-0-wavelength")).to_contain_text("must be positive")
+    expect(page.locator("#err-particle-kinetic_energy")).to_contain_text("abc")
+    expect(page.locator('#scenario-error[data-count="3"]')).to_be_visible()
+    expect(page.locator(".run-button button")).to_be_disabled()
+
+
+def test_downloaded_scenario_keeps_the_text_as_entered(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    open_bundled(page, LASER)
+    type_into(page, ".in-run-duration", "130 fs")
+    expect(page.locator("#scenario-ok")).to_be_visible()
+    with page.expect_download() as info:
+        page.locator(".download-scenario button").click()
+    path = tmp_path / "laser.toml"
+    info.value.save_as(path)
+    text = path.read_text(encoding="utf-8")
+    assert 'duration = "130 fs"' in text and 'duration = "25 fs"' in text and 'kinetic_energy = "1 GeV"' in text
+    want = edited(LASER, lambda d: d["run"].update(duration="130 fs"))
+    assert Scenario.from_toml(text).to_dict() == want.to_dict()  # the round trip stays exact
+
+
+@pytest.mark.parametrize("width, height", [(1280, 720), (1920, 1080)])
+def test_the_page_has_no_horizontal_scroll(browser, lab_url, width, height):
+    context = browser.new_context(viewport={"width": width, "height": height})
+    try:
+        page = context.new_page()
+        open_lab(page, lab_url)
+        open_bundled(page, RING)
+        run_and_wait(page)
+        expect(page.locator(".orbit-equal")).to_be_visible()
+        paint(page)
+        scroll = page.evaluate("() => document.documentElement.scrollWidth")
+        assert scroll <= width, f"page is {scroll} px wide at a {width} px viewport"
+    finally:
+        context.close()
+
+
+def test_equal_scales_draw_a_circle_round(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, RING)
+    run_and_wait(page)
+    expect(page.locator(".orbit-equal input")).to_be_checked()
+    # pixels per unit length along x and y of the x-y projection, from Bokeh's own frame geometry
+    ratio = page.wait_for_function("""() => {
+        const views = [];
+        const walk = v => { views.push(v); for (const c of (v.child_views || [])) walk(c); };
+        for (const root of Bokeh.index.roots) walk(root);
+        for (const view of views) {
+            const m = view.model;
+            if (!m.title || !m.title.text || !m.title.text.includes('x-y projection')) continue;
+            const f = view.frame;
+            if (!f || !f.bbox || f.bbox.width < 10) continue;
+            const px = f.bbox.width / (m.x_range.end - m.x_range.start);
+            const py = f.bbox.height / (m.y_range.end - m.y_range.start);
+            return px / py;
+        }
+        return null;
+    }""").json_value()
+    assert abs(ratio - 1.0) < 0.01
+
+
+def click_on_words(page, text):
+    """A mouse click where the words are drawn, as a person would click them."""
+    words = page.get_by_text(text)
+    words.scroll_into_view_if_needed()
+    box = words.bounding_box()
+    page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
+
+
+def test_a_click_on_a_switch_label_toggles_it(page, lab_url):
+    open_lab(page, lab_url)
+    open_bundled(page, RING)
+    run_and_wait(page)
+    box = page.locator(".log-power input")
+    expect(box).not_to_be_checked()
+    click_on_words(page, "log scale for the Liénard power P(t)")
+    expect(box).to_be_checked()
+    equal = page.locator(".orbit-equal input")
+    before = equal.is_checked()
+    click_on_words(page, "same scale on all axes")
+    expect(equal).to_be_checked(checked=not before)
+
+
+def test_an_oversize_upload_gets_a_message_and_the_session_keeps_working(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    big = tmp_path / "huge.toml"
+    big.write_text("title = '" + "x" * 3_000_000 + "'\n", encoding="utf-8")
+    page.locator(".upload-scenario input[type=file]").set_input_files(str(big))
+    expect(page.get_by_text("File is too large").first).to_be_visible()
+    type_into(page, ".in-field-0-a0", "13")  # the session still answers
+    scenario = edited(LASER, lambda d: d["field"][0].update(a0=13))
+    expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
+
+
+def test_a_deeply_nested_upload_gets_a_message(page, lab_url, tmp_path):
+    open_lab(page, lab_url)
+    deep = tmp_path / "deep.toml"
+    deep.write_text("x = " + "[" * 500 + "]" * 500 + "\n", encoding="utf-8")
+    page.locator(".upload-scenario input[type=file]").set_input_files(str(deep))
+    expect(page.locator("#source-error")).to_contain_text("nested", timeout=30_000)
+    expect(page.locator(".run-button button")).to_be_enabled()

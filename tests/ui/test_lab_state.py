@@ -1,5 +1,7 @@
 """The lab's session model without a browser: loading, editing, validation messages, runs, cancel."""
 
+import html
+import threading
 import tomllib
 
 import pytest
@@ -7,8 +9,10 @@ import pytest
 import tracker
 from tracker import Scenario
 from ui.bundled import bundled_path, bundled_scenarios
+from ui import work
 from ui.runner import RunController
-from ui.state import LabState, error_belongs_to, key_path
+from ui.state import MAX_SCENARIO_BYTES, LabState, error_belongs_to, key_path
+from ui.work import RunQueue
 from ui.views import prepare_drawing
 
 RING = "storage_ring_bend.toml"
@@ -80,7 +84,7 @@ def test_download_text_round_trips_through_the_engine(state):
     text = state.toml_text()
     again = Scenario.from_toml(text)
     assert again.to_dict() == state.scenario.to_dict()
-    assert again.to_toml() == text
+    assert again.to_toml() == state.scenario.to_toml()  # the SI form is exact too
 
 
 # ---------------------------------------------------------------------- editing and validation
@@ -172,7 +176,6 @@ def test_step_mode_switch(state):
 def test_a_run_shows_exactly_what_compare_returns(state):
     state.set_value(("field", 0, "B"), ["0 T", "0 T", "1.2 T"])
     assert state.start_run()
-    assert state.running and not state.start_run()  # one run at a time
     assert state.wait_run(60)
     assert state.status == "completed" and state.run_count == 1
     expected = tracker.compare(state.scenario)
@@ -181,7 +184,7 @@ def test_a_run_shows_exactly_what_compare_returns(state):
         want = getattr(expected, name).summary()
         assert got["energy_radiated"] == want["energy_radiated"]
         assert got["final_energy"] == want["final_energy"]
-    assert state.prepared["orbits"]["runs"]["damped"]["x"].size > 0
+    assert state.prepared["orbits"]["paths"]["damped"]["x-y"]["h"].size > 0
     assert not state.results_stale
     state.set_value(("field", 0, "B"), ["0 T", "0 T", "1.3 T"])
     assert state.results_stale
@@ -253,3 +256,132 @@ def test_malformed_tables_from_a_file_do_not_break_the_forms():
     assert s.draft["particle"] == {"species": "electron"}
     s.add_field("uniform")
     assert s.draft["field"] == [{"type": "uniform"}]
+
+
+# ---------------------------------------------------------------------- queue
+def test_one_run_per_session_and_runs_beyond_the_slots_wait_in_line(monkeypatch):
+    monkeypatch.setattr(work, "RUN_QUEUE", RunQueue(slots=1))
+    gate = threading.Event()
+
+    def gated(scenario, progress=None, cancel=None):
+        assert gate.wait(60)
+        return tracker.compare(scenario, progress=progress, cancel=cancel)
+
+    first, second, third = (LabState(prepare=prepare_drawing) for _ in range(3))
+    for s in (first, second, third):
+        assert s.load_bundled(RING)
+    assert first.start_run(job=gated)
+    assert first.running and not first.start_run()  # one run at a time per session (gate holds it)
+    assert second.start_run() and third.start_run()
+    assert second.status == "queued" and "position 1" in second.status_text
+    assert third.status == "queued" and "position 2" in third.status_text
+    second.cancel_run()  # leaves the line at once, without ever starting
+    assert second.wait_run(5) and second.status == "cancelled" and second.comparison is None
+    third.poll()
+    assert "position 1" in third.status_text
+    gate.set()
+    assert first.wait_run(120) and first.status == "completed"
+    assert third.wait_run(120) and third.status == "completed"
+    assert work.RUN_QUEUE.running == 0 and work.RUN_QUEUE.waiting == 0
+
+
+def test_opening_another_scenario_cancels_and_clears_the_old_run(monkeypatch):
+    s = long_ring_state()
+    assert s.start_run()
+    ctl = s.controller
+    assert s.load_bundled("mirror_trap.toml")
+    assert ctl.cancel_requested and s.controller is None
+    assert s.status == "idle" and s.comparison is None and s.prepared is None and s.status_text == ""
+    assert ctl.wait(60)
+
+
+# ---------------------------------------------------------------------- every error at once
+def test_three_bad_values_give_three_messages_under_their_inputs():
+    from ui.editors.fields import FieldComposer
+    from ui.editors.particle import ParticleEditor
+    from ui.editors.run import RunEditor
+
+    s = LabState()
+    assert s.load_bundled("laser_headon_gev.toml")
+    editors = [RunEditor(s), ParticleEditor(s), FieldComposer(s)]
+    s.set_value(("run", "duration"), "3 parsec")
+    s.set_value(("field", 0, "wavelength"), "-0.8 um")
+    s.set_value(("particle", "kinetic_energy"), "abc")
+    assert s.scenario is None
+    assert set(s.errors) == {"run.duration", "field[0].wavelength", "particle.kinetic_energy"}
+    assert "wrong dimension" in s.errors["run.duration"]
+    assert "must be positive" in s.errors["field[0].wavelength"]
+    assert "abc" in s.errors["particle.kinetic_energy"]
+    shown = {row.key: row.error_text for editor in editors for row in editor.rows if row.error_text}
+    assert set(shown) == set(s.errors)
+    for key, message in s.errors.items():
+        assert html.escape(message) in shown[key]
+    s.set_value(("run", "duration"), "20 ps")
+    assert set(s.errors) == {"field[0].wavelength", "particle.kinetic_energy"}
+
+
+# ---------------------------------------------------------------------- hostile files
+@pytest.mark.parametrize("text, words", [
+    ("x = " + "[" * 500 + "]" * 500, "nested"),
+    ("title = '" + "a" * (MAX_SCENARIO_BYTES + 1) + "'", "longer than"),
+    ("a = { b = { c = { d = { e = { f = { g = { h = { i = { j = 1 } } } } } } } } }", "nested more than"),
+])
+def test_oversize_and_deeply_nested_files_are_refused_with_a_message(state, text, words):
+    before = state.draft
+    assert not state.load_toml(text, "upload: bad.toml")
+    assert words in state.source_error and len(state.source_error) < 500
+    assert state.draft == before and state.scenario is not None  # the session keeps working
+    assert state.start_run() and state.wait_run(120) and state.status == "completed"
+
+
+@pytest.mark.parametrize("text, key", [
+    ('[run]\nduration = "1 ns"\n[particle]\nspecies = "electron"\ngamma = 2\ndirection = [1, 0, 0]\n'
+     '[[field]]\ntype = ["uniform"]\n', "field[0].type"),
+    ('[run]\nduration = "1 ns"\n[particle]\nspecies = "electron"\ngamma = 2\ndirection = [1, 0, 0]\n'
+     '[[field]]\ntype = "uniform"\nB = 5\n', "field[0].B"),
+    ('[run]\nduration = [1, 2]\n[particle]\nspecies = "electron"\ngamma = {a = 1}\ndirection = [1, 0, 0]\n',
+     "run.duration"),
+    ('run = 3\nparticle = "x"\nfield = [1, "a", {type = {}}]\n', "run"),
+])
+def test_wrongly_typed_values_give_messages_and_forms_still_build(text, key):
+    from ui.editors.fields import FieldComposer
+    from ui.editors.particle import ParticleEditor
+    from ui.editors.run import RunEditor
+
+    s = LabState()
+    assert s.load_toml(text, "upload: odd.toml")
+    assert s.scenario is None and key in s.errors
+    FieldComposer(s), ParticleEditor(s), RunEditor(s)  # build without raising
+    assert s.load_bundled(RING) and s.scenario is not None  # and the session goes on
+
+
+def test_download_keeps_units_as_entered_and_round_trips(state):
+    state.set_value(("run", "duration"), "120 fs")
+    state.set_value(("field", 0, "B"), ["0 T", 0.0, "1.43 T"])
+    text = state.toml_text()
+    assert 'duration = "120 fs"' in text and 'B = ["0 T", 0.0, "1.43 T"]' in text
+    assert "1.2000000000000002e-13" not in text
+    assert Scenario.from_toml(text).to_dict() == state.scenario.to_dict()
+
+
+def test_a_closed_tab_cancels_its_session_work_within_two_polls():
+    from types import SimpleNamespace
+
+    from ui.session import ABSENT_POLLS, SessionLink, browser_connected
+
+    server_session = SimpleNamespace(id="s1", connection_count=1)
+    context = SimpleNamespace(id="s1", server_context=SimpleNamespace(sessions=[server_session]))
+    doc = SimpleNamespace(session_context=context)
+    assert browser_connected(doc) is True and browser_connected(SimpleNamespace()) is None
+    s = long_ring_state()
+    link = SessionLink(doc=doc)
+    link.on_gone(s.cancel_run)
+    assert s.start_run()
+    link.watch(s.poll)
+    link.poll()
+    assert not s.controller.cancel_requested
+    server_session.connection_count = 0  # the tab closed
+    for _ in range(ABSENT_POLLS):
+        link.poll()
+    assert link.gone and s.controller.cancel_requested
+    assert s.wait_run(60) and s.status == "cancelled"

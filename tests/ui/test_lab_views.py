@@ -1,7 +1,5 @@
 """The lab's forms and views without a browser: generated forms, error placement, preview, export."""
 
-import sys
-import types
 from dataclasses import replace
 
 import numpy as np
@@ -12,7 +10,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_BEAM, TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app, spectrum_panel
+from ui.app import TAB_BEAM, TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -20,7 +18,7 @@ from ui.entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
 from ui.format import LENGTH_UNITS, energy_text, pick_unit, unit_label
 from ui.state import LabState
 from ui.views import prepare_drawing
-from ui.views.decimate import minmax_indices, stride_indices
+from ui.views.decimate import minmax_indices, path_indices
 from ui.views.export import result_bytes
 from ui.views.preview import field_slice, plane_along, slice_images
 from ui.views.summary import summary_html
@@ -74,9 +72,66 @@ def test_minmax_decimation_keeps_a_one_sample_peak_and_both_ends():
 
 def test_short_series_are_not_decimated():
     assert np.array_equal(minmax_indices([np.arange(10.0)], 500), np.arange(10))
-    assert np.array_equal(stride_indices(5, 100), np.arange(5))
-    idx = stride_indices(10_001, 1000)
-    assert idx[-1] == 10_000 and len(idx) <= 1002
+    assert np.array_equal(path_indices(np.arange(2.0), np.arange(2.0), (0, 0), (1, 1)), np.arange(2))
+
+
+def test_path_thinning_keeps_a_fast_gyration_inside_its_ring():
+    # a guiding centre circling at R = 1.6 m while gyrating with radius 0.2 m, 200 turns of it per
+    # lap: every state has 1.4 <= R <= 1.8 m; thinning by a stride drew chords deep inside that ring
+    t = np.linspace(0.0, 2 * np.pi, 2_000_001)
+    phase = 200 * t
+    x = 1.6 * np.cos(t) + 0.2 * np.cos(phase)
+    y = 1.6 * np.sin(t) + 0.2 * np.sin(phase)
+    idx = path_indices(x, y, (-1.8, -1.8), (1.8, 1.8), cells=2000)
+    assert idx[0] == 0 and idx[-1] == len(t) - 1 and len(idx) < len(t) / 10
+    # each drawn segment joins states at most one cell apart: its points stay within the ring +- a cell
+    cell = 3.6 / 2000
+    for s in np.linspace(0.0, 1.0, 5):
+        hx = x[idx[:-1]] + s * np.diff(x[idx])
+        hy = y[idx[:-1]] + s * np.diff(y[idx])
+        r = np.hypot(hx, hy)
+        assert r.min() >= 1.4 - 2 * cell and r.max() <= 1.8 + 2 * cell
+
+
+def test_drawn_orbit_stays_inside_the_saved_radius_range():
+    # the case that drew a filled disc: a fast gyration around a torus, thinned for drawing
+    from types import SimpleNamespace
+
+    from ui.views.orbits import prepare_orbits
+
+    t = np.linspace(0.0, 2 * np.pi, 400_001)
+    x = np.stack([1.6 * np.cos(t) + 0.2 * np.cos(9000 * t), 1.6 * np.sin(t) + 0.2 * np.sin(9000 * t),
+                  0.01 * np.sin(3 * t)], axis=1)
+    r_saved = np.hypot(x[:, 0], x[:, 1])
+    run = SimpleNamespace(x=x)
+    drawn = prepare_orbits(SimpleNamespace(damped=run, undamped=run))
+    path = drawn["paths"]["damped"]["x-y"]
+    if len(path["h"]):
+        r = np.hypot(path["h"], path["v"])
+        assert r.min() >= r_saved.min() - 1e-3 and r.max() <= r_saved.max() + 1e-3
+    else:  # too dense for a line: the visited cells, which lie in the ring
+        image = drawn["images"]["damped"]["x-y"]
+        (h0, v0), (h1, v1) = image["lo"], image["hi"]
+        rows, cols = np.nonzero(image["rgba"] >> 24)
+        n = image["rgba"].shape[0]
+        hc = h0 + (cols + 0.5) * (h1 - h0) / n
+        vc = v0 + (rows + 0.5) * (v1 - v0) / n
+        cell = max(h1 - h0, v1 - v0) / n
+        r = np.hypot(hc, vc)
+        assert r.min() >= r_saved.min() - cell and r.max() <= r_saved.max() + cell
+    assert "x-y" in drawn["notes"]  # the page says that, and how, it thinned
+
+
+def test_preview_says_so_while_the_draft_is_invalid(ring):
+    from ui.views.preview import FieldPreview
+
+    preview = FieldPreview(ring)
+    assert len(preview.images["B"].data["image"]) == 1
+    ring.set_value(("field", 0, "B"), ["0 T", "0 T", "abc"])
+    assert 'data-valid="false"' in preview.message.object
+    assert all(len(source.data["image"]) == 0 for source in preview.images.values())
+    ring.set_value(("field", 0, "B"), ["0 T", "0 T", "1 T"])
+    assert 'data-valid="true"' in preview.message.object and len(preview.images["B"].data["image"]) == 1
 
 
 # ---------------------------------------------------------------------- generated forms
@@ -116,11 +171,11 @@ def test_error_is_shown_beside_the_input_it_names_only(ring):
     e_row = next(r for r in composer.rows if r.key == "field[0].E")
     b_row.boxes[2].value = "abc"
     assert ring.error_key == "field[0].B[2]"
-    assert b_row._error.visible and "cannot read &#x27;abc&#x27;" in b_row._error.object
+    assert "cannot read &#x27;abc&#x27;" in b_row.error_text
     assert "ro-bad" in b_row.boxes[2].css_classes and "ro-bad" not in b_row.boxes[0].css_classes
-    assert not e_row._error.visible
+    assert not e_row.error_text
     b_row.boxes[2].value = "1.2 T"
-    assert not b_row._error.visible and "ro-bad" not in b_row.boxes[2].css_classes
+    assert not b_row.error_text and "ro-bad" not in b_row.boxes[2].css_classes
     assert ring.scenario.fields[0].params["B"] == (0.0, 0.0, 1.2)
 
 
@@ -137,8 +192,7 @@ def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
     lab = create_app()
     root = pn.panel(lab).get_root(Document())
     assert root is not None
-    names = lab.tabs._names
-    assert names[:2] == [TAB_FIELDS, TAB_RESULTS]
+    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, TAB_BEAM]
     assert lab.state.scenario is not None
     other = create_app()
     assert other.state is not lab.state  # every session has its own state
@@ -193,35 +247,24 @@ def test_exports_are_the_engines_own_files(ring, tmp_path):
     assert len(csv.splitlines()) == 2 + len(comparison.undamped.t)
 
 
-# ---------------------------------------------------------------------- spectrum tab
-def test_spectrum_tab_gets_every_comparison(monkeypatch):
-    calls = []
-
-    class SpectrumPanel(pn.viewable.Viewer):
-        def __panel__(self):
-            return pn.pane.Markdown("spectrum")
-
-        def update(self, comparison):
-            calls.append(comparison)
-
-    fake = types.ModuleType("ui.views.spectrum")
-    fake.SpectrumPanel = SpectrumPanel
-    monkeypatch.setitem(sys.modules, "ui.views.spectrum", fake)
+# ---------------------------------------------------------------------- tabs
+def test_tabs_are_built_when_first_shown_and_catch_up_with_the_state():
     lab = create_app()
-    assert lab.tabs._names[-1] == TAB_SPECTRUM
-    assert lab.state.start_run()
-    lab.state.controller.wait(60)
-    lab.controls._poll()
-    assert calls == [lab.state.comparison]
-
-
-def test_missing_spectrum_module_leaves_the_tab_out(monkeypatch):
-    monkeypatch.setitem(sys.modules, "ui.views.spectrum", None)  # import raises ModuleNotFoundError
-    panel, message = spectrum_panel()
-    assert panel is None and message == ""
-    lab = create_app()
-    assert TAB_SPECTRUM not in lab.tabs._names
-    assert lab.tabs._names == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_BEAM]
+    assert list(lab.tabs.built) == [TAB_FIELDS]  # a page load pays for the visible tab only
+    assert lab.controls.start()
+    lab.state.controller.wait(120)
+    lab.link.poll()
+    assert lab.tabs.tabs.active == lab.tabs.index(TAB_RESULTS)
+    assert TAB_RESULTS in lab.tabs.built and TAB_SPECTRUM not in lab.tabs.built
+    spectrum = lab.spectrum  # built now: shows the run that finished before it existed
+    assert spectrum._comparison is lab.state.comparison
+    assert not spectrum.compute_button.disabled
+    orbits = lab.tabs.context.views["orbits"]
+    assert len(orbits.paths[("damped", "x-y")].data["h"]) > 1
+    lab.state.load_bundled("mirror_trap.toml")  # another scenario: the old results go everywhere
+    assert lab.state.comparison is None and lab.state.status == "idle"
+    assert len(orbits.paths[("damped", "x-y")].data["h"]) == 0
+    assert spectrum._comparison is None and spectrum.compute_button.disabled
 
 
 # beam scenarios (a [beam] table, hundreds of particles) are covered by tests/ui/test_lab_beam.py
@@ -235,15 +278,15 @@ def test_every_bundled_scenario_previews_runs_and_draws(name):
     assert lab.state.load_bundled(name)
     preview = next(v for v in lab.page.select(pn.pane.HTML) if 'id="preview-message"' in str(v.object))
     assert "Scenario.fields_at" in preview.object
-    assert lab.state.start_run()
+    assert lab.controls.start()
     lab.state.controller.wait(120)
-    lab.controls._poll()
+    lab.link.poll()
     assert lab.state.status == "completed", lab.state.status_text
     orbits = lab.state.prepared["orbits"]
     assert orbits["box"] is not None and orbits["plane"] in ("x-y", "x-z", "y-z")
     series = lab.state.prepared["series"]["runs"]["damped"]
     assert len(series["t"]) == len(series["gamma"]) > 1
-    assert lab.tabs.active == 1  # the results tab opens after a run
+    assert lab.tabs.tabs.active == 1  # the results tab opens after a run
     assert "Scenario.fields_at" in preview.object  # the preview redrew around the orbit
 
 
@@ -259,7 +302,7 @@ def test_adaptive_step_inputs_appear_with_the_switch(ring):
     assert "adaptive dt range" in editor._plan.object
     rows["run.adaptive"].boxes[0].value = False  # dt_min now contradicts the switch
     assert ring.error_key == "run.dt_min"
-    assert any(r.key == "run.dt_min" and r._error.visible for r in editor.rows)
+    assert any(r.key == "run.dt_min" and r.error_text for r in editor.rows)
 
 
 def test_every_run_key_of_the_engine_has_an_input(ring):
@@ -269,3 +312,22 @@ def test_every_run_key_of_the_engine_has_an_input(ring):
     keys = {r.key for r in RunEditor(ring).rows}
     step_keys = {"run.dt", "run.steps_per_period"}
     assert {f"run.{k}" for k in RUN_KEYS} - step_keys <= keys
+
+
+def test_opening_a_scenario_keeps_the_boxes_of_inputs_it_shares():
+    # a value typed just after Open must land in a box that stays on the page (the race that dropped it)
+    from ui.editors.particle import ParticleEditor
+
+    state = LabState()
+    state.load_bundled("laser_headon_gev.toml")
+    run, particle, fields = RunEditor(state), ParticleEditor(state), FieldComposer(state)
+    before = {r.key: r for editor in (run, particle, fields) for r in editor.rows}
+    state.load_bundled("laser_headon_gev.toml")
+    after = {r.key: r for editor in (run, particle, fields) for r in editor.rows}
+    assert after.keys() == before.keys() and all(after[k] is before[k] for k in after)
+    state.load_bundled("storage_ring_bend.toml")
+    rows = {r.key: r for r in run.rows}
+    assert rows["run.duration"] is before["run.duration"]
+    assert rows["run.duration"].boxes[0].value == raw_to_entry(state.draft["run"]["duration"])
+    rows["run.duration"].boxes[0].value = "2 ns"  # typing still edits the new draft
+    assert state.draft["run"]["duration"] == "2 ns"

@@ -83,14 +83,13 @@ def test_bad_values_are_refused_with_the_engines_message(laser):
 
 def test_the_app_has_a_scan_tab_that_opens_results():
     lab = create_app()
-    names = [lab.tabs._names[i] for i in range(len(lab.tabs))]
-    assert TAB_SCAN in names and lab.scan._view is None        # built when first shown
-    lab.tabs.active = names.index(TAB_SCAN)
-    view = lab.scan._view
+    assert TAB_SCAN in lab.tabs.titles and TAB_SCAN not in lab.tabs.built   # built when first shown
+    lab.tabs.tabs.active = lab.tabs.index(TAB_SCAN)
+    view = lab.tabs.context.views["scan"]._view
     assert view is not None and view.key1.options
     view.key1.value = "field[0].a0"
     view.values1.value = "5,10"
     assert view.start() and view.job.wait(120) and view.poll()
     view.open_point(1)                                          # the app's hook shows the Results tab
-    assert lab.tabs.active == names.index(TAB_RESULTS) == 1
+    assert lab.tabs.tabs.active == lab.tabs.index(TAB_RESULTS) == 1
     assert lab.state.comparison is not None

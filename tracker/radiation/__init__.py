@@ -22,6 +22,7 @@ from .photons import angular_distribution as photon_angular_histogram
 from .photons import classical_spectrum as classical_photon_spectrum
 from .photons import emitted_energy
 from .photons import energy_spectrum as photon_energy_histogram
+from .spectra import SpectrumSet, spectra
 from .synchrotron import (critical_frequency, default_synchrotron_omega, local_synchrotron, photon_spectrum,
                           spectral_shape, synchrotron_spectrum, universal_function)
 
@@ -30,6 +31,6 @@ __all__ = [
     "spectrum", "radiation_amplitudes", "resolved_band", "polarization_basis", "default_direction",
     "default_omega", "photon_energy_ev",
     "synchrotron_spectrum", "photon_spectrum", "critical_frequency", "local_synchrotron", "default_synchrotron_omega",
-    "universal_function", "spectral_shape",
+    "universal_function", "spectral_shape", "spectra", "SpectrumSet",
     "photon_energy_histogram", "photon_angular_histogram", "classical_photon_spectrum", "emitted_energy",
 ]

@@ -28,9 +28,8 @@ from .. import constants as k
 from ..errors import ScenarioError
 from ..io import atomic_path
 
-#: default number of frequencies: fine enough to see undulator lines of relative width 1/(n N)
-#: over a decade or two (common practice, no source).
-DEFAULT_POINTS = {"direct": 2000, "nufft": 2000, "synchrotron": 400}
+from .spectra import DEFAULT_POINTS, spectra
+
 METHOD_CHOICES = ("auto",) + tuple(DEFAULT_POINTS)
 
 
@@ -115,14 +114,9 @@ def parse_omega_range(text):
 
 
 def _default_omega(result, method, directions):
-    n = DEFAULT_POINTS[method]
-    if method == "synchrotron":
-        from .synchrotron import default_synchrotron_omega
+    from .spectra import default_grid
 
-        return default_synchrotron_omega(result, n)
-    from .spectrum import default_omega
-
-    return default_omega(result, directions, n)
+    return default_grid(result, method, directions)
 
 
 def _fmt_photon(omega):
@@ -210,9 +204,9 @@ def run_spectrum(args):
               "resolve; track with a smaller dt and save_every = 1 to reach higher")
 
     if method == "synchrotron":
-        from .synchrotron import largest_critical_frequency, photon_spectrum, synchrotron_spectrum
+        from .synchrotron import largest_critical_frequency, photon_spectrum
 
-        dw = synchrotron_spectrum(result, omega)
+        dw = spectra({"result": result}, method, omega).values["result"]
         dn = photon_spectrum(result, omega)
         wc = largest_critical_frequency(result)
         total = float(np.trapezoid(dw, omega))
@@ -225,9 +219,7 @@ def run_spectrum(args):
                     "dW_domega": (dw, "J s"), "dN_domega": (dn, "s")}
         comments = ["radorbit synchrotron spectrum (summed over all directions)", f"result: {source}"]
     else:
-        from .spectrum import spectrum
-
-        values = spectrum(result, directions, omega, method=method)
+        values = spectra({"result": result}, method, omega, directions).values["result"]
         rows = []
         for i, n in enumerate(directions):
             j = int(np.argmax(values[i]))

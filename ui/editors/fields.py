@@ -12,7 +12,8 @@ from panel.viewable import Viewer
 
 from tracker.fields import MODELS as FIELD_MODELS
 
-from .inputs import ErrorBoard, EntryRow
+from ..state import field_model
+from .inputs import ErrorBoard, RowCache
 from .special_inputs import FileEntryRow, FormulaEntryRow, TableEntryRow
 from ..theme import UNITS_NOTE, html_pane
 
@@ -24,9 +25,11 @@ def model_options():
     return {f"{model.label} ({name})": name for name, model in FIELD_MODELS.items()}
 
 
-def field_row(state, index, model, p):
+def field_row(cache, index, model, p):
     """The input row for one parameter: chosen by the parameter's kind (number, vector, choice,
-    file, formula or table), so a new model needs no code here."""
+    file, formula or table), so a new model needs no code here. Plain rows are kept across
+    rebuilds by ``cache`` (their boxes stay in the page)."""
+    state = cache.state
     path = ("field", index, p.name)
     if p.kind == "path":
         return FileEntryRow(state, path, p.name, doc=p.doc, default=p.default)
@@ -36,13 +39,13 @@ def field_row(state, index, model, p):
                                parameters_path=("field", index, tables[0]) if tables else None)
     if p.kind == "table":
         return TableEntryRow(state, path, p.name, doc=p.doc)
-    return EntryRow(state, path, p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc,
-                    default=p.default, choices=p.choices)
+    return cache.row(path, p.name, p.kind, unit=p.unit, dimension=p.dimension, doc=p.doc, default=p.default,
+                     choices=p.choices)
 
 
-def field_rows(state, index, model):
+def field_rows(cache, index, model):
     """One input row per parameter of ``model`` for field component ``index``."""
-    return [field_row(state, index, model, p) for p in model.params]
+    return [field_row(cache, index, model, p) for p in model.params]
 
 
 class FieldComposer(Viewer):
@@ -52,6 +55,8 @@ class FieldComposer(Viewer):
         super().__init__(**params)
         self.state = state
         self.board = ErrorBoard(state)
+        self.cache = RowCache(state)
+        self._card_cache = {}  # (index, type) -> (card, up, down, rows): kept so its boxes stay in the page
         self.rows = []  # EntryRows of the current forms (for tests and the error board)
         self._type = pn.widgets.Select(options=model_options(), width=300, margin=(4, 4),
                                        css_classes=["field-type-select"])
@@ -88,7 +93,14 @@ class FieldComposer(Viewer):
 
     def _card(self, index, raw, count):
         type_name = raw.get("type") if isinstance(raw, dict) else None
-        model = FIELD_MODELS.get(type_name)
+        model = field_model(type_name)
+        if model is not None and (index, model.name) in self._card_cache:
+            card, up, down, rows = self._card_cache[(index, model.name)]
+            up.disabled, down.disabled = index == 0, index == count - 1
+            for row in field_rows(self.cache, index, model):  # the same rows, values refreshed
+                self.board.add(row)
+            self.rows.extend(rows)
+            return card
         up = pn.widgets.Button(label="↑", width=34, margin=(0, 2), disabled=index == 0,
                                description="move up", css_classes=[f"field-{index}-up"])
         down = pn.widgets.Button(label="↓", width=34, margin=(0, 2), disabled=index == count - 1,
@@ -104,7 +116,7 @@ class FieldComposer(Viewer):
                                  f'{html.escape(", ".join(FIELD_MODELS))}. Remove it or fix the file.</div>')]
         else:
             title = f"field[{index}] · {model.label}"
-            rows = field_rows(self.state, index, model)
+            rows = field_rows(self.cache, index, model)
             for row in rows:
                 self.board.add(row)
             self.rows.extend(rows)
@@ -115,5 +127,8 @@ class FieldComposer(Viewer):
                          sizing_mode="stretch_width"),
             up, down, remove, sizing_mode="stretch_width", margin=0,
         )
-        return pn.Card(*body, header=header, collapsible=False, header_background=CARD_HEADER,
+        card = pn.Card(*body, header=header, collapsible=False, header_background=CARD_HEADER,
                        sizing_mode="stretch_width", margin=(4, 0), css_classes=[f"field-card-{index}"])
+        if model is not None:
+            self._card_cache[(index, model.name)] = (card, up, down, rows)
+        return card

@@ -12,7 +12,7 @@ from panel.viewable import Viewer
 
 from tracker.fields.base import REQUIRED
 
-from ..entries import entry_to_raw, raw_to_entry, vector_entries, vector_to_raw
+from ..entries import entry_to_raw, list_entry, list_to_raw, raw_to_entry, vector_entries, vector_to_raw
 from ..format import unit_label
 from ..schema import hint
 from ..state import error_belongs_to, key_path
@@ -50,7 +50,7 @@ def placeholder_texts(kind, default):
 
 
 class ErrorBoard:
-    """Puts the engine's message under the row it concerns; one state watcher per editor.
+    """Puts every message under the row it concerns; one state watcher per editor.
 
     Rows are registered on each form rebuild (``reset`` first), so rows of an old
     form do not linger.
@@ -59,19 +59,44 @@ class ErrorBoard:
     def __init__(self, state):
         self.state = state
         self.rows = []
-        state.param.watch(self._refresh, ["error", "error_key"])
+        state.param.watch(self._refresh, ["errors"])
 
     def reset(self):
         self.rows = []
 
     def add(self, row):
         self.rows.append(row)
-        row.show_error(self.state.error_key, self.state.error)
+        row.show_errors(self.state.errors)
         return row
 
     def _refresh(self, *_):
         for row in self.rows:
-            row.show_error(self.state.error_key, self.state.error)
+            row.show_errors(self.state.errors)
+
+
+class RowCache:
+    """Keeps one ``EntryRow`` per input across form rebuilds.
+
+    A rebuilt form reuses the row of the same input (same path, kind, unit, default and
+    choices) with its value refreshed, so the box in the page stays the same element:
+    a value typed while a newly opened scenario's forms arrive goes to a box that stays,
+    instead of to one that is being replaced (where it would be lost).
+    """
+
+    def __init__(self, state):
+        self.state = state
+        self._rows = {}
+
+    def row(self, path, label, kind, unit="", dimension="dimensionless", doc="", default=REQUIRED, choices=()):
+        key = (tuple(path), label, kind, unit, dimension, doc, id(default) if default is REQUIRED else repr(default),
+               tuple(choices))
+        row = self._rows.get(key)
+        if row is None:
+            row = self._rows[key] = EntryRow(self.state, path, label, kind, unit=unit, dimension=dimension, doc=doc,
+                                             default=default, choices=choices)
+        else:
+            row.refresh()
+        return row
 
 
 class EntryRow(Viewer):
@@ -102,6 +127,8 @@ class EntryRow(Viewer):
         self.path = tuple(path)
         self.key = key_path(self.path)
         self.kind = kind
+        self.default = default
+        self._syncing = False
         value = state.value(self.path)
         name = slug(self.key)
         tip = "; ".join(t for t in (doc, hint(dimension, unit) if kind != "choice" else "") if t)
@@ -130,6 +157,12 @@ class EntryRow(Viewer):
             ]
             for box in self._boxes:
                 box.param.watch(self._vector_changed, "value")
+        elif kind == "list":
+            box = pn.widgets.TextInput(value=list_entry(value), placeholder="values separated by commas",
+                                       width=SCALAR_WIDTH + COMPONENT_WIDTH, margin=(2, 4),
+                                       css_classes=[f"in-{name}"], stylesheets=[BAD_INPUT_CSS])
+            box.param.watch(self._list_changed, "value")
+            self._boxes = [box]
         else:
             box = pn.widgets.TextInput(value=raw_to_entry(value), placeholder=placeholder_texts(kind, default),
                                        width=SCALAR_WIDTH, margin=(2, 4), css_classes=[f"in-{name}"],
@@ -138,9 +171,8 @@ class EntryRow(Viewer):
             self._boxes = [box]
         self._unit = html_pane(f'<span class="ro-unit">{html.escape(unit_label(unit))}</span>',
                                   width=UNIT_WIDTH, margin=(8, 0, 0, 4))
-        self._error = html_pane("", visible=False, margin=(0, 8, 4, LABEL_WIDTH + 12),
-                                   sizing_mode="stretch_width")
-        self._layout = pn.Column(pn.Row(self._label, *self._boxes, self._unit, margin=0), self._error,
+        self._error = None  # made with the first message: most rows never need one (page loads stay light)
+        self._layout = pn.Column(pn.Row(self._label, *self._boxes, self._unit, margin=0),
                                  margin=0, sizing_mode="stretch_width")
 
     def __panel__(self):
@@ -152,31 +184,81 @@ class EntryRow(Viewer):
         return list(self._boxes)
 
     # ------------------------------------------------------------------ edits
+    def refresh(self):
+        """Show the draft's current value (after a load or a reorder) without writing it back."""
+        value = self.state.value(self.path)
+        self._syncing = True
+        try:
+            if self.kind == "boolean":
+                self._boxes[0].value = bool(value if value is not None else self.default is True)
+            elif self.kind == "choice":
+                box = self._boxes[0]
+                options = list(box.options)
+                box.value = value if value in options else (self.default if self.default in options else options[0])
+            elif self.kind == "vector":
+                for box, text in zip(self._boxes, vector_entries(value)):
+                    box.value = text
+            elif self.kind == "list":
+                self._boxes[0].value = list_entry(value)
+            else:
+                self._boxes[0].value = raw_to_entry(value)
+        finally:
+            self._syncing = False
+
     def _scalar_changed(self, event):
-        self.state.set_value(self.path, entry_to_raw(event.new))
+        if not self._syncing:
+            self.state.set_value(self.path, entry_to_raw(event.new))
 
     def _vector_changed(self, _event):
-        self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
+        if not self._syncing:
+            self.state.set_value(self.path, vector_to_raw([box.value for box in self._boxes]))
+
+    def _list_changed(self, event):
+        if not self._syncing:
+            self.state.set_value(self.path, list_to_raw(event.new))
 
     def _flag_changed(self, event):
         # off is the default: leave the key out rather than write false
-        self.state.set_value(self.path, True if event.new else None, relayout=True)
+        if not self._syncing:
+            self.state.set_value(self.path, True if event.new else None, relayout=True)
 
     def _choice_changed(self, event):
-        self.state.set_value(self.path, event.new)
+        if not self._syncing:
+            self.state.set_value(self.path, event.new)
 
     # ------------------------------------------------------------------ errors
-    def show_error(self, error_key, message):
-        """Show ``message`` under the row when ``error_key`` names this input."""
-        mine = error_belongs_to(error_key, self.key)
+    def show_errors(self, errors):
+        """Show every message of ``errors`` ({key path: message}) that names this input."""
+        mine = {key: message for key, message in errors.items() if error_belongs_to(key, self.key)}
+        body = "<br>".join(html.escape(message) for message in mine.values())
         text = (f'<div class="ro-error" id="err-{slug(self.key)}" '
-                f'style="color:#b3261e;font-size:12.5px;">{html.escape(message)}</div>') if mine else ""
+                f'style="color:#b3261e;font-size:12.5px;">{body}</div>') if mine else ""
+        if self._error is None:
+            if not mine:
+                self._mark_boxes(mine)
+                return
+            self._error = html_pane("", visible=False, margin=(0, 8, 4, LABEL_WIDTH + 12),
+                                    sizing_mode="stretch_width")
+            self._layout.append(self._error)
         if self._error.object != text:
             self._error.object = text
-        self._error.visible = mine
+        self._error.visible = bool(mine)
+        self._mark_boxes(mine)
+
+    @property
+    def error_text(self):
+        """The HTML of the messages shown under the row ('' when none)."""
+        return self._error.object if self._error is not None and self._error.visible else ""
+
+    def _mark_boxes(self, mine):
+        if self.kind == "boolean":
+            return
         for i, box in enumerate(self._boxes):
-            bad = mine and (self.kind != "vector" or error_key in (self.key, f"{self.key}[{i}]"))
-            if self.kind == "boolean":
-                continue
+            bad = bool(mine) and (self.kind != "vector" or any(k in (self.key, f"{self.key}[{i}]") for k in mine))
             classes = [c for c in box.css_classes if c != "ro-bad"]
-            box.css_classes = classes + (["ro-bad"] if bad else [])
+            if classes + (["ro-bad"] if bad else []) != list(box.css_classes):
+                box.css_classes = classes + (["ro-bad"] if bad else [])
+
+    def show_error(self, error_key, message):
+        """Show one message when ``error_key`` names this input (see ``show_errors``)."""
+        self.show_errors({error_key: message} if error_key else {})

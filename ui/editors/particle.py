@@ -10,15 +10,15 @@ from tracker.fields.base import REQUIRED
 
 from .. import schema
 from ..format import number_text
-from .inputs import ErrorBoard, EntryRow
+from .inputs import ErrorBoard, RowCache
 from ..theme import UNITS_NOTE, html_pane
 
 
-def particle_row(state, name, default=None):
-    """EntryRow for one particle input of ``schema.PARTICLE_ENTRIES``."""
+def particle_row(cache, name, default=None):
+    """EntryRow (kept across rebuilds by ``cache``) for one particle input of ``schema.PARTICLE_ENTRIES``."""
     e = schema.PARTICLE_ENTRIES[name]
-    return EntryRow(state, ("particle", name), e.label, e.kind, unit=e.unit, dimension=e.dimension,
-                    doc=e.doc, default=default)
+    return cache.row(("particle", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
+                     default=default, choices=e.choices)
 
 
 def particle_readout(scenario):
@@ -39,6 +39,7 @@ class ParticleEditor(Viewer):
         super().__init__(**params)
         self.state = state
         self.board = ErrorBoard(state)
+        self.cache = RowCache(state)
         self.rows = []
         self._form = pn.Column(sizing_mode="stretch_width", margin=0)
         self._readout = html_pane(particle_readout(state.scenario), margin=(4, 8), sizing_mode="stretch_width")
@@ -66,10 +67,10 @@ class ParticleEditor(Viewer):
         kind_select = pn.widgets.Select(options=kinds, value=kind, width=214, margin=(2, 4),
                                         css_classes=["in-particle-kind"])
         kind_select.param.watch(lambda e: state.set_momentum_kind(e.new), "value")
-        rows = [particle_row(state, name, default=None) for name in schema.SPECIES_EXTRAS.get(species, ())]
-        rows.append(particle_row(state, "position", default=(0.0, 0.0, 0.0)))
-        value_row = particle_row(state, kind, default=REQUIRED)
-        direction_rows = ([particle_row(state, "direction", default=REQUIRED)]
+        rows = [particle_row(self.cache, name, default=None) for name in schema.SPECIES_EXTRAS.get(species, ())]
+        rows.append(particle_row(self.cache, "position", default=(0.0, 0.0, 0.0)))
+        value_row = particle_row(self.cache, kind, default=REQUIRED)
+        direction_rows = ([particle_row(self.cache, "direction", default=REQUIRED)]
                           if kind in schema.scalar_momentum_keys() else [])
         self.rows = rows + [value_row] + direction_rows
         for row in self.rows:

@@ -11,17 +11,18 @@ from tracker.plan import human_bytes
 
 from .. import schema
 from ..format import TIME_UNITS, number_text, quantity_text
-from .inputs import ErrorBoard, EntryRow
+from .inputs import ErrorBoard, RowCache
 from ..theme import html_pane
 
 #: memory estimate above which the plan line turns amber (common practice, no source)
 LARGE_MEMORY_BYTES = 1 << 30
 
 
-def run_row(state, name, default):
+def run_row(cache, name, default):
+    """EntryRow (kept across rebuilds by ``cache``) for one [run] input of ``schema.RUN_ENTRIES``."""
     e = schema.RUN_ENTRIES[name]
-    return EntryRow(state, ("run", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
-                    default=default)
+    return cache.row(("run", name), e.label, e.kind, unit=e.unit, dimension=e.dimension, doc=e.doc,
+                     default=default, choices=e.choices)
 
 
 def plan_html(plan, error=""):
@@ -63,6 +64,7 @@ class RunEditor(Viewer):
         super().__init__(**params)
         self.state = state
         self.board = ErrorBoard(state)
+        self.cache = RowCache(state)
         self.rows = []
         self._form = pn.Column(sizing_mode="stretch_width", margin=0)
         self._plan = html_pane(plan_html(state.plan, state.error), stylesheets=[PLAN_CSS],
@@ -85,19 +87,19 @@ class RunEditor(Viewer):
         mode_select = pn.widgets.Select(options={v: k for k, v in schema.STEP_MODES.items()}, value=mode,
                                         width=214, margin=(2, 4), css_classes=["in-run-step-mode"])
         mode_select.param.watch(lambda e: state.set_step_mode(e.new), "value")
-        pusher = EntryRow(state, ("run", "pusher"), "pusher", "choice", doc="particle pusher",
+        pusher = self.cache.row(("run", "pusher"), "pusher", "choice", doc="particle pusher",
                           default=schema.run_default("pusher"), choices=schema.pusher_names())
-        reaction = EntryRow(state, ("run", "radiation_reaction"), "radiation reaction", "choice",
+        reaction = self.cache.row(("run", "radiation_reaction"), "radiation reaction", "choice",
                             doc="model of the damped run (the undamped run switches it off)",
                             default=schema.run_default("radiation_reaction"), choices=schema.reaction_names())
         step_default = DEFAULT_STEPS_PER_PERIOD if mode == "steps_per_period" else REQUIRED
         self.rows = [
-            run_row(state, "duration", REQUIRED),
-            run_row(state, mode, step_default),
+            run_row(self.cache, "duration", REQUIRED),
+            run_row(self.cache, mode, step_default),
             pusher,
             reaction,
-            run_row(state, "save_every", schema.run_default("save_every")),
-            run_row(state, "max_steps", schema.run_default("max_steps")),
+            run_row(self.cache, "save_every", schema.run_default("save_every")),
+            run_row(self.cache, "max_steps", schema.run_default("max_steps")),
         ]
         adaptive = bool(state.value(("run", "adaptive")))
         shown = {"duration", "dt", "steps_per_period", "pusher", "radiation_reaction", "save_every", "max_steps"}
@@ -105,10 +107,10 @@ class RunEditor(Viewer):
             if key in shown or (key in schema.ADAPTIVE_ONLY and not adaptive and state.value(("run", key)) is None):
                 continue
             if key in schema.RUN_ENTRIES:
-                self.rows.append(run_row(state, key, schema.run_default(key)))
+                self.rows.append(run_row(self.cache, key, schema.run_default(key)))
             else:
                 # a [run] key this editor does not know yet: a plain box, values as in a file
-                self.rows.append(EntryRow(state, ("run", key), key, "scalar", doc="see the scenario schema",
+                self.rows.append(self.cache.row(("run", key), key, "scalar", doc="see the scenario schema",
                                           default=schema.run_default(key)))
         for row in self.rows:
             self.board.add(row)

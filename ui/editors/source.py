@@ -8,7 +8,11 @@ import panel as pn
 from panel.viewable import Viewer
 
 from ..bundled import bundled_scenarios
+from ..state import MAX_SCENARIO_BYTES
 from ..theme import html_pane
+
+#: uploads above this are refused in the browser, before they travel (the file picker says so)
+MAX_UPLOAD = f"{MAX_SCENARIO_BYTES // 1000}KB"
 
 
 def scenario_stem(source):
@@ -31,8 +35,10 @@ class ScenarioSource(Viewer):
             self.bundled.value = state.source
         self.open = pn.widgets.Button(label="Open", width=80, margin=(4, 4), css_classes=["open-bundled"])
         self.open.on_click(lambda _e: self.state.load_bundled(self.bundled.value))
-        self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, margin=(4, 4), width=300,
-                                           css_classes=["upload-scenario"])
+        # the dropper checks the size in the browser and sends in chunks: a huge file gets a message
+        # instead of overflowing the session's websocket (which would end the session)
+        self.upload = pn.widgets.FileDropper(multiple=False, max_file_size=MAX_UPLOAD, layout="compact",
+                                             margin=(4, 4), width=300, height=70, css_classes=["upload-scenario"])
         self.upload.param.watch(self._uploaded, "value")
         self.download = pn.widgets.FileDownload(callback=self._toml_file, filename="scenario.toml",
                                                 label="Download scenario (.toml)", width=300, margin=(4, 4),
@@ -66,13 +72,14 @@ class ScenarioSource(Viewer):
     def _uploaded(self, event):
         if not event.new:
             return
-        name = self.upload.filename or "upload.toml"
-        try:
-            text = event.new.decode("utf-8")
-        except UnicodeDecodeError:
-            self.state.source_error = f"{name}: not a UTF-8 text file."
-            return
-        self.state.load_toml(text, f"upload: {name}")
+        name, content = next(reversed(event.new.items()))
+        if isinstance(content, bytes):
+            try:
+                content = content.decode("utf-8")
+            except UnicodeDecodeError:
+                self.state.source_error = f"{name}: not a UTF-8 text file; nothing was loaded."
+                return
+        self.state.load_toml(content, f"upload: {name}")
 
     def _text_changed(self, key, text):
         if self._syncing:

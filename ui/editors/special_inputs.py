@@ -51,6 +51,16 @@ class _SpecialRow(Viewer):
     def boxes(self):
         return list(self._boxes)
 
+    def show_errors(self, errors):
+        """Show the messages of ``errors`` ({key path: message}) that name this input."""
+        mine = [(key, message) for key, message in errors.items() if error_belongs_to(key, self.key)]
+        self.show_error(mine[0][0] if mine else "", "\n".join(message for _key, message in mine))
+
+    @property
+    def error_text(self):
+        """The HTML of the messages shown under the row ('' when none)."""
+        return self._error.object if self._error.visible else ""
+
     def show_error(self, error_key, message):
         """Show ``message`` under the row when ``error_key`` names this input."""
         mine = error_belongs_to(error_key, self.key)

@@ -7,6 +7,13 @@ import numpy as np
 #: most points drawn per orbit curve (browsers stay fluid well beyond this; common practice, no source)
 MAX_ORBIT_POINTS = 20_000
 
+#: cells per side of the grid a projected path is kept to (about 7x the plot's pixels, so a
+#: zoom by that much still shows the true path; display only)
+PATH_CELLS = 2_000
+
+#: cells per side of the density image that replaces a path too dense to draw as a line
+DENSITY_CELLS = 400
+
 #: buckets per time series; each keeps its minimum and maximum so narrow peaks survive
 MAX_SERIES_BUCKETS = 2_000
 
@@ -53,3 +60,41 @@ def minmax_indices(columns, max_buckets):
         keep.append(starts + padded_lo.reshape(buckets, size).argmin(axis=1))
     idx = np.unique(np.concatenate(keep))
     return idx[idx < n]
+
+
+def path_indices(h, v, lo, hi, cells=PATH_CELLS):
+    """Indices that keep a projected path's shape on a ``cells`` x ``cells`` grid.
+
+    A state is kept when it lies in another grid cell than the state before it, so the
+    drawn polyline never leaves the path by more than one cell (no chords across the
+    orbit, whatever its period); the first and last states are always kept.
+
+    Parameters
+    ----------
+    h, v : ndarray (n,)
+        Horizontal and vertical coordinates (m).
+    lo, hi : (float, float)
+        Lower and upper bound of (h, v) (m), e.g. the plot window.
+    """
+    n = len(h)
+    if n <= 2:
+        return np.arange(n)
+    ih = _cell(h, lo[0], hi[0], cells)
+    iv = _cell(v, lo[1], hi[1], cells)
+    code = ih * (cells + 1) + iv
+    keep = np.flatnonzero(np.diff(code) != 0) + 1
+    return np.unique(np.concatenate([[0], keep, [n - 1]]))
+
+
+def density_image(h, v, lo, hi, cells=DENSITY_CELLS):
+    """Visits per cell of a ``cells`` x ``cells`` grid over [lo, hi] (rows along v), float (cells, cells)."""
+    counts, _, _ = np.histogram2d(v, h, bins=cells, range=[[lo[1], hi[1]], [lo[0], hi[0]]])
+    return counts
+
+
+def _cell(values, lo, hi, cells):
+    span = hi - lo
+    if not span > 0:
+        return np.zeros(len(values), dtype=np.int64)
+    scaled = np.floor((np.asarray(values, dtype=float) - lo) / span * cells)
+    return np.clip(np.nan_to_num(scaled, nan=0.0), 0, cells).astype(np.int64)

@@ -36,16 +36,18 @@ class ExportView(Viewer):
             for suffix, label in FORMATS.items():
                 button = pn.widgets.FileDownload(
                     callback=lambda n=name, s=suffix: self._file(n, s), filename=f"result-{name}.{suffix}",
-                    label=f"{name} · {label}", width=190, margin=(4, 6), disabled=True,
+                    label=f"{name} · {label}", width=170, margin=(4, 6), disabled=True,
                     css_classes=[f"download-{name}-{suffix}"])
                 self.buttons[(name, suffix)] = button
         self._note = html_pane(
             '<div class="ro-note">Full saved states in SI with units (HDF5 also holds the scenario and the '
             "run metadata). Plots: use the save tool in each plot's toolbar for a PNG.</div>",
             sizing_mode="stretch_width", margin=(0, 8))
-        self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0), self._note,
+        self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0, styles={"flex-wrap": "wrap"},
+                                        sizing_mode="stretch_width"), self._note,
                                  sizing_mode="stretch_width", margin=0)
         state.param.watch(self._refresh, "comparison")
+        self._refresh()
 
     def __panel__(self):
         return self._layout

@@ -20,7 +20,7 @@ from ..entries import entry_to_raw
 from ..format import LENGTH_UNITS, TIME_UNITS, pick_unit, quantity_text
 from .document import apply_to_models
 from .palette import B_PALETTE, COMPONENT_PALETTE, E_PALETTE, RUN_STYLES, START_COLOR, new_figure
-from ..theme import html_pane
+from ..theme import checkbox, html_pane
 
 PLANES = {"x-y": (0, 1), "x-z": (0, 2), "y-z": (1, 2)}
 AXES = "xyz"
@@ -113,7 +113,7 @@ class FieldPreview(Viewer):
                                        css_classes=["preview-plane"])
         self.component = pn.widgets.Select(options=list(COMPONENTS), value="Bz", width=70, margin=(4, 4),
                                            css_classes=["preview-component"])
-        self.log_scale = pn.widgets.Checkbox(label="log colour for |E|, |B|", value=True, margin=(10, 8))
+        self.log_scale = checkbox("log colour for |E|, |B|", value=True, margin=(10, 8))
         self.centre = [pn.widgets.TextInput(width=92, margin=(4, 2), placeholder=a,
                                             css_classes=[f"preview-centre-{i}"]) for i, a in enumerate(AXES)]
         self.half_width = pn.widgets.TextInput(width=110, margin=(4, 4), css_classes=["preview-half-width"])
@@ -133,6 +133,9 @@ class FieldPreview(Viewer):
                                     ("C", "Bz (T)", COMPONENT_PALETTE)):
             fig = new_figure(title, "x (m)", "y (m)", height=330, x_range=self.x_range, y_range=self.y_range)
             fig.grid.visible = False
+            # three plots share a row on a laptop screen: few ticks keep their labels apart
+            fig.xaxis.ticker.desired_num_ticks = 4
+            fig.yaxis.ticker.desired_num_ticks = 5
             source = ColumnDataSource({"image": [], "x": [], "y": [], "dw": [], "dh": []})
             linear = LinearColorMapper(palette=palette, nan_color=NAN_COLOR)
             mappers = {"linear": linear}
@@ -306,8 +309,18 @@ class FieldPreview(Viewer):
     def _redraw(self, *_):
         scenario = self.state.scenario
         if scenario is None:
-            self.message.object = ('<div class="ro-note" id="preview-message">The preview waits for a valid '
-                                   "scenario (see the message beside the inputs).</div>")
+            self.message.object = ('<div class="ro-note" id="preview-message" data-valid="false">No preview: the '
+                                   "scenario is not valid (see the messages beside the inputs).</div>")
+
+            def blank():
+                # never show the field of an earlier, valid draft as if it were this one
+                for key, fig in self.figures.items():
+                    self.images[key].data = {"image": [], "x": [], "y": [], "dw": [], "dh": []}
+                    fig.title.text = "no valid scenario"
+                self.orbit.data = {"h": [], "v": []}
+                self.start.data = {"h": [], "v": []}
+
+            apply_to_models(blank)
             return
         try:
             centre, half = self._window()
@@ -368,7 +381,7 @@ class FieldPreview(Viewer):
         apply_to_models(change)
         where = ", ".join(f"{c / scale:.4g}" for c in centre)
         self.message.object = (
-            f'<div class="ro-note" id="preview-message">{plane} plane through ({where}) {unit}, '
+            f'<div class="ro-note" id="preview-message" data-valid="true">{plane} plane through ({where}) {unit}, '
             f"t = {quantity_text(t, TIME_UNITS, 4)}, {GRID}×{GRID} points from Scenario.fields_at; "
             "white dot: particle start"
             + ("; line: last damped orbit" if len(orbit["h"]) else "")
@@ -378,10 +391,8 @@ class FieldPreview(Viewer):
         prepared = self.state.prepared
         if not prepared:
             return {"h": [], "v": []}
-        orbits = prepared["orbits"]
-        run = orbits["runs"]["damped"]
-        h, v = AXES[a], AXES[b]
-        return {"h": np.asarray(run[h]) / scale, "v": np.asarray(run[v]) / scale}
+        path = prepared["orbits"]["paths"]["damped"].get(f"{AXES[a]}-{AXES[b]}", {"h": [], "v": []})
+        return {"h": np.asarray(path["h"]) / scale, "v": np.asarray(path["v"]) / scale}
 
 
 def _label(text):

@@ -10,8 +10,8 @@ from tracker import constants
 from ..format import TIME_UNITS, energy_unit, pick_unit
 from .decimate import MAX_SERIES_BUCKETS, minmax_indices
 from .document import apply_to_models
+from ..theme import checkbox
 from .palette import RUN_LABELS, RUN_STYLES, new_figure, style_legend
-from ..theme import html_pane
 
 RUNS = ("damped", "undamped")
 COLUMNS = ("t", "gamma", "power", "power_log", "energy", "chi")
@@ -123,15 +123,16 @@ class SeriesView(Viewer):
                 fig.line("t", column, source=self.sources[name], legend_label=RUN_LABELS[name], **RUN_STYLES[name])
             style_legend(fig)
             self.figures[column] = fig
-        self.log_power = pn.widgets.Switch(value=False, margin=(8, 4, 0, 8), css_classes=["log-power"])
+        # a checkbox with its label: a click on the words toggles it too
+        self.log_power = checkbox("log scale for the Liénard power P(t)", value=False,
+                                             margin=(8, 8), css_classes=["log-power"])
         self._panes = {c: pn.pane.Bokeh(f, sizing_mode="stretch_width") for c, f in self.figures.items()}
         self._panes["power_log"].visible = False
         self.log_power.param.watch(self._toggle_log, "value")
         power_box = pn.Column(self._panes["power"], self._panes["power_log"], sizing_mode="stretch_width",
                               margin=0)
         self._layout = pn.Column(
-            pn.Row(html_pane('<span class="ro-label">log scale for the Liénard power P(t)</span>', margin=(8, 4)),
-                   self.log_power, margin=0),
+            self.log_power,
             pn.GridBox(self._panes["gamma"], power_box, self._panes["energy"], self._panes["chi"], ncols=2,
                        sizing_mode="stretch_width"),
             sizing_mode="stretch_width", margin=0)
@@ -148,6 +149,11 @@ class SeriesView(Viewer):
     def _show(self, *_):
         prepared = self.state.prepared
         if not prepared:
+            def clear():  # no results (another scenario was opened): empty plots, not the old run
+                for source in self.sources.values():
+                    source.data = _empty()
+
+            apply_to_models(clear)
             return
         data = prepared["series"]
 

@@ -1,7 +1,9 @@
 """Spectrum tab: what a detector would see from the damped and the undamped orbit.
 
-A view only: every number comes from ``tracker.radiation``; this module picks
-grids and display units and draws.
+A view only: every number comes from ``tracker.radiation`` (``spectra`` is also what
+``radorbit spectrum`` calls); this module picks display units and draws. It reads the
+session's ``LabState`` like every other view, and its computation is a queued
+``ui.work.Job`` handed back through the session's ``SessionLink`` (cancelled with it).
 
 - Spectrum (on demand, "Compute spectrum" button, off the UI thread): the method
   chosen by the orbit (``tracker.radiation.choice``, its reason shown), the
@@ -15,8 +17,6 @@ grids and display units and draws.
   or from lab +z.
 """
 
-import threading
-
 import numpy as np
 import panel as pn
 from bokeh.models import ColorBar, ColumnDataSource, LinearColorMapper
@@ -25,6 +25,10 @@ from panel.viewable import Viewer
 
 from tracker import ScenarioError
 from tracker import radiation
+
+from ..session import SessionLink
+from .palette import style_legend
+from ..work import Job
 
 RUNS = ("damped", "undamped")
 RUN_LABELS = {"damped": "damped", "undamped": "undamped (no reaction force)"}
@@ -123,19 +127,17 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
         omega = radiation.default_omega(comparison.damped, direction[None, :], SPECTRUM_POINTS[method])
     omega, cut = clip_to_ceiling(comparison.damped, omega)
     notes += [n for n in (cut, quantum_note(comparison.damped)) if n]
+    results = {name: getattr(comparison, name) for name in RUNS}
     if method == "synchrotron":
-        for name in RUNS:
-            result = getattr(comparison, name)
-            runs[name] = (radiation.photon_energy_ev(omega), radiation.synchrotron_spectrum(result, omega))
+        found = radiation.spectra(results, method, omega)  # the function `radorbit spectrum` calls
+        runs = {name: (found.photon_energy_ev, values) for name, values in found.values.items()}
         ylabel = "dW/dω (J s), all directions"
         wc = radiation.critical_frequency(comparison.damped)
         notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc.max())):.4g} eV")
     else:
         direction = radiation.default_direction(comparison.damped) if direction is None else direction
-        for name in RUNS:
-            result = getattr(comparison, name)
-            values = radiation.spectrum(result, direction[None, :], omega)[0]
-            runs[name] = (radiation.photon_energy_ev(omega), values)
+        found = radiation.spectra(results, method, omega, direction[None, :])
+        runs = {name: (found.photon_energy_ev, values[0]) for name, values in found.values.items()}
         ylabel = "d²W/dω dΩ (J s/sr)"
         notes.append("towards n = (" + ", ".join(f"{v:+.4f}" for v in direction) + ")")
         if omega_range is None:
@@ -174,12 +176,23 @@ def compute_maps(comparison, index, frame):
 
 
 class SpectrumPanel(Viewer):
-    """Spectrum and angular distribution of a damped/undamped pair; ``update(comparison)`` feeds it."""
+    """Spectrum and angular distribution of the session's latest damped/undamped pair.
 
-    def __init__(self, **params):
+    Parameters
+    ----------
+    state : ui.state.LabState, optional
+        Followed for new results (without it, feed pairs with ``update``).
+    link : ui.session.SessionLink, optional
+        Hands the spectrum job back to the page and cancels it when the tab closes.
+    """
+
+    def __init__(self, state=None, link=None, **params):
         super().__init__(**params)
+        self.state = state
+        self.link = link if link is not None else SessionLink()
+        self.link.on_gone(self.cancel)
         self._comparison = None
-        self._busy = False
+        self._job = None
         self.method = pn.widgets.Select(label="Spectrum", options=METHODS, value="auto", width=360)
         self.range_low = pn.widgets.TextInput(label="Photon energy from", placeholder="default, or e.g. 10 eV",
                                               width=170)
@@ -203,8 +216,7 @@ class SpectrumPanel(Viewer):
         for name in RUNS:
             self.spectrum_figure.line("x", "y", source=self.spectrum_sources[name], legend_label=RUN_LABELS[name],
                                       **RUN_STYLES[name])
-        self.spectrum_figure.legend.location = "bottom_left"
-        self.spectrum_figure.legend.click_policy = "hide"
+        style_legend(self.spectrum_figure)  # under the plot, clear of the data
         self.spectrum_figure.toolbar.logo = None
 
         self.color_mapper = LinearColorMapper(palette="Viridis256", low=0.0, high=1.0)
@@ -238,13 +250,49 @@ class SpectrumPanel(Viewer):
             pn.Row(pn.pane.Bokeh(self.map_figures["damped"]), pn.pane.Bokeh(self.map_figures["undamped"])),
             sizing_mode="stretch_width",
         )
+        self.error = pn.pane.HTML("", visible=False, sizing_mode="stretch_width")
+        self._layout.insert(0, self.error)
+        if state is not None:
+            state.param.watch(self._new_result, "comparison")
+            self._new_result()
 
     def __panel__(self):
         return self._layout
 
+    def _new_result(self, *_):
+        comparison = self.state.comparison
+        if comparison is None:
+            self.clear()
+            return
+        try:
+            self.update(comparison)
+            self.error.visible = False
+        except Exception as exc:  # shown in its tab, never a traceback
+            self.error.object = (f'<div class="ro-error" style="color:#b3261e">The angular map could not be '
+                                 f"drawn: {type(exc).__name__}: {exc}</div>")
+            self.error.visible = True
+
+    def clear(self):
+        """No results (a new scenario was opened): empty plots, nothing to compute."""
+        self.cancel()
+        self._comparison = None
+        for source in self.spectrum_sources.values():
+            source.data = dict(x=[], y=[])
+        self.compute_button.disabled = True
+        self.time_slider.disabled = True
+        self.status.object = "Run a scenario, then compute its spectrum here."
+        self.map_status.object = ""
+
+    def cancel(self):
+        """Stop a spectrum being computed (its outcome is dropped)."""
+        if self._job is not None:
+            self._job.cancel()
+            self._job = None
+
     # ------------------------------------------------------------------ inputs
     def update(self, comparison):
         """Show a new damped/undamped pair: reset the spectrum, redraw the angular maps."""
+        self.cancel()
         self._comparison = comparison
         for source in self.spectrum_sources.values():
             source.data = dict(x=[], y=[])
@@ -281,8 +329,8 @@ class SpectrumPanel(Viewer):
 
     # ------------------------------------------------------------------ spectrum
     def compute_spectrum(self, wait=False):
-        """Compute both spectra; in a server session off the UI thread unless ``wait``."""
-        if self._comparison is None or self._busy:
+        """Compute both spectra as a queued job; ``wait`` blocks until shown (scripts, tests)."""
+        if self._comparison is None or self._job is not None:
             return
         comparison = self._comparison
         method = self.method.value
@@ -292,33 +340,27 @@ class SpectrumPanel(Viewer):
         except ScenarioError as exc:
             self.status.object = f"No spectrum: {exc}"
             return
-        doc = pn.state.curdoc
-        self._busy = True
+        job = self._job = Job(lambda _progress, _cancel: compute_spectra(comparison, method, omega_range, direction),
+                              name="radorbit-lab-spectrum", failure="the spectrum failed").start()
         self.compute_button.disabled = True
         self.status.object = "Computing the spectrum of both runs…"
 
-        def work():
-            try:
-                payload = compute_spectra(comparison, method, omega_range, direction)
-            except ScenarioError as exc:
-                payload = {"error": str(exc)}
-            except Exception as exc:  # shown in the tab, never a traceback
-                payload = {"error": f"{type(exc).__name__}: {exc}"}
-            if doc is not None and not wait:
-                doc.add_next_tick_callback(lambda: self._show_spectrum(payload))
-            else:
-                self._show_spectrum(payload)
+        def finished():
+            if self._job is not job:
+                return  # cancelled, or replaced by a newer result
+            self._job = None
+            self._show_spectrum({"error": job.error} if job.error else job.outcome)
 
-        if wait or doc is None:
-            work()
+        if wait:
+            job.wait()
+            finished()
         else:
-            threading.Thread(target=work, daemon=True).start()
+            self.link.watch(lambda: job.done, finished)
 
     def _on_compute(self, *_):
         self.compute_spectrum()
 
     def _show_spectrum(self, payload):
-        self._busy = False
         self.compute_button.disabled = self._comparison is None
         if "error" in payload:
             self.status.object = f"No spectrum: {payload['error']}"

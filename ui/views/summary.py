@@ -101,6 +101,7 @@ class SummaryView(Viewer):
         self._pane = html_pane(summary_html(None), stylesheets=[SUMMARY_CSS], sizing_mode="stretch_width",
                                   margin=(4, 8))
         state.param.watch(self._show, ["comparison", "scenario"])
+        self._show()
 
     def __panel__(self):
         return self._pane

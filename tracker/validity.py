@@ -270,13 +270,11 @@ def _finite_states(result):
 
 def check_outside(result):
     """'domain' when the run stopped because the particle left a field's domain (e.g. a map's grid)."""
-    from .engine import STOP_LEFT_DOMAIN
-
-    if str(result.meta.get("stop_reason", "")) != str(STOP_LEFT_DOMAIN):
+    if StopReason.of(result.meta.get("stop_reason")) is not StopReason.LEFT_DOMAIN:
         return []
-    detail = result.meta.get("stop_detail") or "the particle left a field model's domain"
+    reason = result.meta.get("stop_detail") or StopReason.LEFT_DOMAIN.description
     t_last = float(result.t[-1]) if len(result.t) else 0.0
-    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {detail}. Enlarge the map, or choose "
+    return [warning("domain", f"the run stopped at t = {t_last:.4g} s: {reason}. Enlarge the map, or choose "
                               "outside = \"zero\" to continue without its field.", t_last)]
 
 

@@ -22,7 +22,6 @@ from tracker import Scenario, ScenarioError, load_scenario, track
 from tracker.cli import main
 from tracker.fieldmap_export import export_field_map
 from tracker.fields.mapfile import load_map, write_map
-from tracker.stops import StopReason
 
 ELECTRON_10MEV = {"species": "electron", "position": [1.0, 0.0, 0.011], "kinetic_energy": "10 MeV",
                   "direction": [0, 1, 0.05]}
@@ -187,7 +186,7 @@ def test_leaving_the_grid_stops_with_the_reason_or_continues_without_field(tmp_p
               {"duration": 5e-9, "dt": 1e-11, "radiation_reaction": "none"}, tmp_path)
     r = track(s)
     if outside == "stop":
-        assert r.meta["stop_reason"] == StopReason.LEFT_DOMAIN
+        assert r.meta["stop_reason"] == "left_domain"
         assert r.meta["stop_detail"].startswith("field[0]: left the field map")
         assert "z = 0.001" in r.meta["stop_detail"]
         assert r.x[-1, 2] <= 1e-3 * (1 + 1e-9) and r.t[-1] == pytest.approx(1e-9, abs=2e-11)  # 1 mm at 1e6 m/s

@@ -51,8 +51,11 @@ FAST = dict(deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCh
 
 def mutate(base, section, key, value):
     """A copy of ``base`` with ``section.key = value`` (section: run, particle, field[0], top)."""
-    data = {**base, "run": dict(base["run"]), "particle": dict(base["particle"]),
+    body = "beam" if "beam" in base else "particle"   # a [beam] scenario has no [particle]
+    data = {**base, "run": dict(base["run"]), body: dict(base[body]),
             "field": [dict(f) for f in base.get("field", [])]}
+    if section == "particle":
+        section = body
     if section == "top":
         data[key] = value
     elif section == "field":

@@ -100,13 +100,11 @@ def test_a_busy_port_gives_one_clear_error_and_no_serving_line(capsys):
 
 
 def test_show_without_a_display_says_it_cannot_open_a_browser(monkeypatch, capsys):
-    import panel as pn
+    from ui.server import LabServer
 
     seen = {}
     monkeypatch.delenv("DISPLAY", raising=False)
     monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
-    from ui.server import LabServer
-
     monkeypatch.setattr(LabServer, "run", lambda self, show=False: seen.update(show=show))   # no server here
     with socket.socket() as free:
         free.bind(("127.0.0.1", 0))

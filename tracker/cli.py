@@ -32,10 +32,11 @@ def energy_prefix(joules_values):
     return "eV", 1.0
 
 
-def _fmt_energy(joules, prefix):
+def _fmt_energy(joules, prefix=None):
+    """An energy (J) in the eV multiple ``prefix`` (see ``energy_prefix``; default: its own)."""
     from .constants import e
 
-    unit, scale = prefix
+    unit, scale = prefix or energy_prefix([joules])
     return f"{joules / e / scale:.6g} {unit}"
 
 

@@ -194,10 +194,11 @@ def _plain(value):
 
 
 def _magnitude(value):
-    if isinstance(value, tuple):
+    """|value| of a number or a tuple of numbers; 0 for anything else (names, formulas)."""
+    if isinstance(value, tuple) and value and all(_plain(v) for v in value):
         with np.errstate(over="ignore"):
-            return float(np.linalg.norm(value))
-    return abs(value) if isinstance(value, (int, float)) else 0.0
+            return float(np.linalg.norm(np.asarray(value, dtype=float)))
+    return abs(value) if _plain(value) else 0.0
 
 
 def _check_field(index, spec, raw):

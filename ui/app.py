@@ -24,6 +24,7 @@ from .state import LabState
 from .tabs import LazyTabs, TabSpec
 from .theme import HEADER_CSS, PAGE, html_pane, section_card
 from .views import prepare_drawing
+from .views.beam import BeamNote, BeamView
 from .views.export import ExportView
 from .views.orbits import OrbitView
 from .views.preview import FieldPreview
@@ -37,6 +38,7 @@ CAUTION = ("Research and teaching tool: results are not for radiation-safety or 
 SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
 TAB_SCAN = "Scan"
+TAB_BEAM = "Beam"
 
 
 @dataclass
@@ -152,8 +154,14 @@ def scan_tab(context):
     return section_card("Parameter scan (tracker.sweep)", scan)
 
 
+def beam_tab(context):
+    # a [beam] run's heat map, statistics and orbits; says what to do before a beam has run
+    beam = context.views["beam"] = BeamView(context.state)
+    return section_card("Beam (damped drawn over undamped)", beam)
+
+
 TABS = [TabSpec(TAB_FIELDS, fields_tab), TabSpec(TAB_RESULTS, results_tab), TabSpec(TAB_SCAN, scan_tab),
-        TabSpec(TAB_SPECTRUM, spectrum_tab)]
+        TabSpec(TAB_SPECTRUM, spectrum_tab), TabSpec(TAB_BEAM, beam_tab)]
 
 
 def create_app(initial_scenario_path=None):
@@ -192,7 +200,7 @@ def create_app(initial_scenario_path=None):
     sidebar = pn.Column(
         section_card("Run", controls),
         section_card("Scenario", ScenarioSource(state)),
-        section_card("Particle", ParticleEditor(state)),
+        section_card("Particle", ParticleEditor(state), BeamNote(state)),
         section_card("Run settings and plan", RunEditor(state)),
         width=SIDEBAR_WIDTH, margin=(0, 0, 0, 6),
     )

@@ -25,8 +25,7 @@ DEFAULT_SCENARIO = "laser_headon_gev.toml"
 def bundled_scenarios():
     """{file name: title} of the bundled scenario files the lab can show, sorted by name.
 
-    Beam scenarios (a ``[beam]`` table) are left out until the lab draws a BeamResult
-    (issue 8, the lab's beam mode); ``radorbit run``/``check`` and ``tracker.track`` take them.
+    Beam scenarios (a ``[beam]`` table) are listed too: the lab's Beam tab draws their BeamResults.
     """
     out = {}
     for path in sorted(SCENARIO_DIR.glob("*.toml")):
@@ -34,8 +33,6 @@ def bundled_scenarios():
             data = tomllib.loads(path.read_text(encoding="utf-8"))
         except (OSError, tomllib.TOMLDecodeError):
             data = {}
-        if "beam" in data:
-            continue
         out[path.name] = data.get("title", "") or path.stem
     return out
 

@@ -10,7 +10,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
+from ui.app import TAB_BEAM, TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -192,7 +192,7 @@ def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
     lab = create_app()
     root = pn.panel(lab).get_root(Document())
     assert root is not None
-    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM]
+    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, TAB_BEAM]
     assert lab.state.scenario is not None
     other = create_app()
     assert other.state is not lab.state  # every session has its own state
@@ -267,7 +267,12 @@ def test_tabs_are_built_when_first_shown_and_catch_up_with_the_state():
     assert spectrum._comparison is None and spectrum.compute_button.disabled
 
 
-@pytest.mark.parametrize("name", sorted(bundled_scenarios()))
+# beam scenarios (a [beam] table, hundreds of particles) are covered by tests/ui/test_lab_beam.py
+# with small beams, which keeps this suite's run time down
+SINGLE_PARTICLE_BUNDLED = sorted(n for n in bundled_scenarios() if n != "laser_bunch_collision.toml")
+
+
+@pytest.mark.parametrize("name", SINGLE_PARTICLE_BUNDLED)
 def test_every_bundled_scenario_previews_runs_and_draws(name):
     lab = create_app()
     assert lab.state.load_bundled(name)

@@ -9,7 +9,12 @@ for drawing only; exports always use the full Result.
 
 def prepare_drawing(comparison):
     """Drawing data of a Comparison for every results view (runs on the worker thread)."""
+    from .beam import is_beam, prepare_beam, single_view_comparison
     from .orbits import prepare_orbits
     from .series import prepare_series
 
-    return {"orbits": prepare_orbits(comparison), "series": prepare_series(comparison)}
+    beam = None
+    if is_beam(comparison):
+        beam = prepare_beam(comparison)
+        comparison = single_view_comparison(comparison)
+    return {"orbits": prepare_orbits(comparison), "series": prepare_series(comparison), "beam": beam}

@@ -60,7 +60,12 @@ def summary_html(comparison, stale=False):
         cells = []
         for name in RUNS:
             s = summaries[name]
-            text = fmt(s[key]) if s is not None else "no saved states"
+            if s is None:
+                text = "no saved states"
+            elif key in s:
+                text = fmt(s[key])
+            else:  # a beam run's summary has other keys: its numbers are in the Beam tab
+                text = "see the Beam tab"
             cells.append(f'<td id="sum-{key}-{name}">{html.escape(text)}</td>')
         body.append(f"<tr><th>{html.escape(label)}</th>{''.join(cells)}</tr>")
     note = ('<div class="ro-note" style="font-size:12px;color:#52606d;margin-top:4px">'

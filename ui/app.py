@@ -27,6 +27,7 @@ from .views import prepare_drawing
 from .views.beam import BeamNote, BeamView
 from .views.export import ExportView
 from .views.orbits import OrbitView
+from .views.photons import PhotonView
 from .views.preview import FieldPreview
 from .views.series import SeriesView
 from .views.spectrum import SpectrumPanel
@@ -39,6 +40,7 @@ SIDEBAR_WIDTH = 480
 TAB_FIELDS, TAB_RESULTS, TAB_SPECTRUM = "Fields", "Results", "Spectrum"
 TAB_SCAN = "Scan"
 TAB_BEAM = "Beam"
+TAB_PHOTONS = "Photons"
 
 
 @dataclass
@@ -157,11 +159,17 @@ def scan_tab(context):
 def beam_tab(context):
     # a [beam] run's heat map, statistics and orbits; says what to do before a beam has run
     beam = context.views["beam"] = BeamView(context.state)
-    return section_card("Beam (damped drawn over undamped)", beam)
+    return section_card("Beam (every model run; no reaction force drawn underneath)", beam)
+
+
+def photons_tab(context):
+    # the photons a stochastic-emission run recorded; says how to get some before one has run
+    photons = context.views["photons"] = PhotonView(context.state)
+    return section_card("Photons (stochastic emission)", photons)
 
 
 TABS = [TabSpec(TAB_FIELDS, fields_tab), TabSpec(TAB_RESULTS, results_tab), TabSpec(TAB_SCAN, scan_tab),
-        TabSpec(TAB_SPECTRUM, spectrum_tab), TabSpec(TAB_BEAM, beam_tab)]
+        TabSpec(TAB_SPECTRUM, spectrum_tab), TabSpec(TAB_BEAM, beam_tab), TabSpec(TAB_PHOTONS, photons_tab)]
 
 
 def create_app(initial_scenario_path=None):

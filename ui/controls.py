@@ -11,7 +11,14 @@ import panel as pn
 from panel.viewable import Viewer
 
 from .session import SessionLink
-from .theme import html_pane
+from .theme import checkbox, html_pane
+from .views.palette import MODEL_LABELS, MODEL_STYLES
+from tracker.engine import MODEL_ORDER
+
+#: what the model ticks mean, said once under them
+MODELS_NOTE = ('<div class="ro-note" id="models-note">Each ticked model runs the same scenario; its colour is '
+               "the same in every plot and table. Stochastic emission also records its photons (Photons tab)."
+               "</div>")
 
 STATUS_COLORS = {"idle": "#52606d", "queued": "#6b4f9a", "running": "#1d5f8a", "completed": "#1e6b3a", "cancelled": "#8a4b00",
                  "stopped": "#8a4b00", "failed": "#b3261e"}
@@ -26,8 +33,12 @@ def validity_html(state):
         return (f'<div class="ro-invalid" id="scenario-error" data-count="{len(messages)}" '
                 f'style="color:#b3261e;font-size:13px;overflow-wrap:anywhere">{head}{body}</div>')
     steps = state.plan.steps if state.plan is not None else 0
+    if not state.models:
+        return ('<div class="ro-invalid" id="no-model" style="color:#b3261e;font-size:13px">'
+                "✗ tick at least one radiation-reaction model to run.</div>")
+    count = len(state.models)
     return (f'<div class="ro-valid" id="scenario-ok" style="color:#1e6b3a;font-size:13px">'
-            f"✓ scenario valid · {steps:,} steps per run · damped and undamped</div>")
+            f"✓ scenario valid · {steps:,} steps per run · {count} model{'s' if count > 1 else ''}</div>")
 
 
 def status_html(state):
@@ -37,8 +48,17 @@ def status_html(state):
             f'style="color:{color};font-size:13px;overflow-wrap:anywhere">{html.escape(text)}</div>')
 
 
+def model_tick(model, value):
+    """A tick for one model, its box drawn in the model's fixed colour."""
+    color = MODEL_STYLES[model]["color"]
+    css = (f".bk-label::before {{ border-color: {color}; }}\n"
+           f"input:checked + .bk-label::before {{ background: {color}; border-color: {color}; }}")
+    return checkbox(MODEL_LABELS[model], value=value, stylesheets=[css], margin=(2, 8),
+                    css_classes=["model-tick", f"model-{model}"])
+
+
 class RunControls(Viewer):
-    """Run (damped and undamped) / Cancel, with a progress bar and status line."""
+    """Model ticks, Run / Cancel, a progress bar and the status line."""
 
     def __init__(self, state, link=None, on_finished=None, on_started=None, **params):
         super().__init__(**params)
@@ -54,11 +74,19 @@ class RunControls(Viewer):
                                                sizing_mode="stretch_width", height=14, margin=(6, 8))
         self.validity = html_pane(validity_html(state), sizing_mode="stretch_width", margin=(0, 8))
         self.status = html_pane(status_html(state), sizing_mode="stretch_width", margin=(0, 8))
+        self._syncing = False
+        self.model_ticks = {model: model_tick(model, model in state.models) for model in MODEL_ORDER}
+        for model, tick in self.model_ticks.items():
+            tick.param.watch(self._ticked, "value")
+        state.param.watch(self._models_changed, "models")
         self.run.on_click(self._run_clicked)
         self.cancel.on_click(self._cancel_clicked)
-        state.param.watch(self._validity_changed, ["scenario", "error", "errors"])
+        state.param.watch(self._validity_changed, ["scenario", "error", "errors", "models"])
         state.param.watch(self._status_changed, ["status", "status_text", "progress"])
-        self._layout = pn.Column(pn.Row(self.run, self.cancel, margin=0), self.progress, self.status,
+        ticks = pn.GridBox(*self.model_ticks.values(), ncols=2, sizing_mode="stretch_width", margin=(0, 0, 2, 0))
+        self._layout = pn.Column(html_pane('<div class="ro-section">Radiation-reaction models</div>', margin=(0, 8)),
+                                 ticks, html_pane(MODELS_NOTE, sizing_mode="stretch_width", margin=(0, 8)),
+                                 pn.Row(self.run, self.cancel, margin=0), self.progress, self.status,
                                  self.validity, sizing_mode="stretch_width", margin=0)
         self._validity_changed()
 
@@ -67,7 +95,21 @@ class RunControls(Viewer):
 
     def _validity_changed(self, *_):
         self.validity.object = validity_html(self.state)
-        self.run.disabled = self.state.scenario is None or self.state.running
+        self.run.disabled = self.state.scenario is None or self.state.running or not self.state.models
+
+    def _ticked(self, _event):
+        if not self._syncing:
+            self.state.set_models([model for model, tick in self.model_ticks.items() if tick.value])
+
+    def _models_changed(self, *_):
+        # the state changed the ticks (a scenario loaded, the form's model changed): mirror them
+        # without each box's change writing a half-updated list back
+        self._syncing = True
+        try:
+            for model, tick in self.model_ticks.items():
+                tick.value = model in self.state.models
+        finally:
+            self._syncing = False
 
     def _status_changed(self, *_):
         state = self.state
@@ -78,7 +120,7 @@ class RunControls(Viewer):
         else:
             self.progress.param.update(value=int(round(1000 * state.progress)), active=running)
         self.cancel.disabled = not running
-        self.run.disabled = running or state.scenario is None
+        self.run.disabled = running or state.scenario is None or not state.models
 
     def _run_clicked(self, _event):
         self.start()

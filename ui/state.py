@@ -7,16 +7,20 @@ which is the only judge of validity. Views watch the parameters.
 """
 
 import copy
+import functools
 
 import param
 
+import tracker
 from tracker import Scenario, ScenarioError, plausibility
+from tracker.engine import MODEL_ORDER
 from tracker.fields import MODELS as FIELD_MODELS
 from tracker.stops import StopReason
 
 from . import schema
 from .bundled import bundled_path
 from .runner import RunController
+from .views.runs import reference_run
 
 #: run states shown by the page
 STATUSES = ("idle", "queued", "running", "completed", "cancelled", "stopped", "failed")
@@ -67,6 +71,16 @@ def value_errors(draft):
 def field_model(type_name):
     """The registered field model of a raw ``type`` value, or None (also for unhashable values)."""
     return FIELD_MODELS.get(type_name) if isinstance(type_name, str) else None
+
+
+def default_models(draft):
+    """The classic pair a scenario opens with: its own model (Landau-Lifshitz when it has none or
+    an unknown one) and the run without reaction force, in ``MODEL_ORDER``."""
+    run = draft.get("run") if isinstance(draft, dict) else None
+    model = run.get("radiation_reaction") if isinstance(run, dict) else None
+    if not isinstance(model, str) or model not in MODEL_ORDER or model == "none":
+        model = "landau-lifshitz"
+    return [m for m in MODEL_ORDER if m in (model, "none")]
 
 
 def key_path(path):
@@ -122,7 +136,11 @@ class LabState(param.Parameterized):
 
     status_text = param.String(default="", doc="One line about the latest run for people.")
 
-    comparison = param.Parameter(default=None, doc="tracker.Comparison of the latest run (damped, undamped).")
+    models = param.List(default=[], item_type=str, doc="""
+        Radiation-reaction models the next run compares, in ``tracker.engine.MODEL_ORDER``
+        (ticked in the Run card; a loaded scenario ticks its own model and 'none').""")
+
+    comparison = param.Parameter(default=None, doc="tracker.Comparison of the latest run, one result per model.")
 
     prepared = param.Parameter(default=None, doc="Drawing data prepared on the worker from ``comparison``.")
 
@@ -161,6 +179,7 @@ class LabState(param.Parameterized):
         self.source = source
         self._pending_kind = self._pending_step_mode = None
         self._forget_results()
+        self.models = default_models(draft)
         self._set_draft(draft, relayout=True)
         self.loads += 1
         return True
@@ -256,7 +275,30 @@ class LabState(param.Parameterized):
             node.pop(last, None)
         else:
             node[last] = raw
+        if tuple(path) == ("run", "radiation_reaction"):
+            self._follow_model_choice(raw)
         self._set_draft(draft, relayout=relayout)
+
+    def set_models(self, models):
+        """Tick these radiation-reaction models for the next run (kept in ``MODEL_ORDER``).
+
+        Raises
+        ------
+        ScenarioError
+            For a name that is not a model (named in the message).
+        """
+        unknown = [m for m in models if m not in MODEL_ORDER]
+        if unknown:
+            raise ScenarioError("models", f"must name models from {', '.join(MODEL_ORDER)}, not {unknown[0]!r}.")
+        self.models = [m for m in MODEL_ORDER if m in models]
+
+    def _follow_model_choice(self, model):
+        """The scenario's model was changed in the run form: the run compares the new one instead."""
+        old = self.table("run").get("radiation_reaction", "landau-lifshitz")
+        if not isinstance(model, str) or model not in MODEL_ORDER or model == old:
+            return
+        ticked = [m for m in self.models if m != old or m == "none"]
+        self.set_models([*ticked, model])
 
     def set_species(self, name):
         """Switch the species; inputs that only belong to another species are dropped."""
@@ -392,15 +434,22 @@ class LabState(param.Parameterized):
         return self._controller
 
     def start_run(self, job=None):
-        """Start the current scenario (damped and undamped) on a worker thread.
+        """Start the current scenario with every ticked model (``models``) on a worker thread.
+
+        Parameters
+        ----------
+        job : callable(scenario, progress=, cancel=), optional
+            Replaces ``tracker.compare(scenario, models=self.models)`` (tests, scripts).
 
         Returns
         -------
         bool
-            False when the draft is invalid or a run is already going.
+            False when the draft is invalid, no model is ticked or a run is already going.
         """
-        if self.scenario is None or self.running:
+        if self.scenario is None or self.running or (job is None and not self.models):
             return False
+        if job is None:
+            job = functools.partial(tracker.compare, models=list(self.models))
         self._controller = RunController(self.scenario, job=job, prepare=self._prepare).start()
         self.param.update(status="queued", progress=0.0, status_text="")
         self.poll()
@@ -451,8 +500,9 @@ class LabState(param.Parameterized):
             self.param.update(status="cancelled", progress=0.0, status_text="cancelled before it started",
                               run_count=self.run_count + 1)
             return
-        damped = getattr(comparison, "damped", comparison)
-        meta = damped.meta
+        # a job may hand back one Result instead of a Comparison (``job=tracker.track``)
+        first = reference_run(comparison) if hasattr(comparison, "results") else comparison
+        meta = first.meta
         reason = StopReason.of(meta.get("stop_reason"))
         steps, planned = meta.get("steps", 0), meta.get("planned_steps", 0)
         if meta.get("complete", False):

@@ -50,7 +50,7 @@ def beam_result(scenario, n_saved, per_particle, cooling):
 def beam_comparison(count=40, n_saved=25, per_particle=True):
     scenario = beam_scenario(count)
     damped = beam_result(scenario, n_saved, per_particle, cooling=0.2)
-    undamped = beam_result(scenario, n_saved, per_particle, cooling=0.0)
+    undamped = beam_result(scenario.with_run(radiation_reaction="none"), n_saved, per_particle, cooling=0.0)
     return Comparison(damped=damped, undamped=undamped)
 
 
@@ -66,7 +66,7 @@ def test_beam_view_data_shapes_with_particle_arrays():
     comparison = beam_comparison(count=40, n_saved=25)
     data = prepare_beam(comparison)
     assert data["count"] == 40 and data["drawn"] == 40  # fewer than MAX_ORBIT_PARTICLES: all drawn
-    for name in ("damped", "undamped"):
+    for name in ("landau-lifshitz", "none"):
         heat = data["heat"][name]
         assert np.asarray(heat["image"][0]).shape == (HEAT_BINS, 25)
         # every particle is counted once per saved time
@@ -75,15 +75,15 @@ def test_beam_view_data_shapes_with_particle_arrays():
         assert len(data["orbits"][name]["x"]) == 40 and len(data["orbits"][name]["z"][0]) == 25
     # the cooled run's last histogram sits lower in gamma than the uncooled one's
     bins = np.arange(HEAT_BINS)
-    last = {n: np.asarray(data["heat"][n]["image"][0])[:, -1] for n in ("damped", "undamped")}
-    assert (bins * last["damped"]).sum() < (bins * last["undamped"]).sum()
+    last = {n: np.asarray(data["heat"][n]["image"][0])[:, -1] for n in ("landau-lifshitz", "none")}
+    assert (bins * last["landau-lifshitz"]).sum() < (bins * last["none"]).sum()
 
     state = LabState()
     view = BeamView(state)
     state.prepared = prepare_drawing(comparison)
     assert view.heat_row.visible and view.orbit_row.visible
-    assert len(view.curve_sources["damped"].data["rms_gamma_spread"]) == 25
-    assert len(view.orbit_sources[("undamped", "x-z")].data["xs"]) == 40
+    assert len(view.curve_sources["landau-lifshitz"].data["rms_gamma_spread"]) == 25
+    assert len(view.orbit_sources[("none", "x-z")].data["xs"]) == 40
     assert "40 of 40 particles drawn" in view.message.object
     Document().add_root(view.__panel__().get_root())
 
@@ -92,8 +92,8 @@ def test_large_beam_is_thinned_for_drawing():
     comparison = beam_comparison(count=400, n_saved=700)
     data = prepare_beam(comparison)
     assert data["drawn"] <= MAX_ORBIT_PARTICLES + 1
-    assert len(data["orbits"]["damped"]["x"][0]) <= MAX_ORBIT_POINTS + 1
-    assert np.asarray(data["heat"]["damped"]["image"][0]).shape[1] <= 301
+    assert len(data["orbits"]["landau-lifshitz"]["x"][0]) <= MAX_ORBIT_POINTS + 1
+    assert np.asarray(data["heat"]["landau-lifshitz"]["image"][0]).shape[1] <= 301
 
 
 def test_statistics_only_result_shows_the_message_instead_of_the_heat_map():
@@ -106,7 +106,7 @@ def test_statistics_only_result_shows_the_message_instead_of_the_heat_map():
     state.prepared = prepared
     assert not view.heat_row.visible and not view.orbit_row.visible
     assert "run.save" in view.message.object and NO_PARTICLES.split(":")[0][:20] in view.message.object
-    assert len(view.curve_sources["damped"].data["emittance_x"]) == 25
+    assert len(view.curve_sources["landau-lifshitz"].data["emittance_x"]) == 25
 
 
 def test_lab_builds_the_beam_tab_when_shown_and_it_catches_up_with_a_beam_result():
@@ -116,7 +116,7 @@ def test_lab_builds_the_beam_tab_when_shown_and_it_catches_up_with_a_beam_result
     lab.tabs.tabs.active = lab.tabs.index(TAB_BEAM)
     assert TAB_BEAM in lab.tabs.built
     view = lab.tabs.context.views["beam"]
-    assert view.heat_row.visible and len(view.curve_sources["damped"].data["t"]) == 25
+    assert view.heat_row.visible and len(view.curve_sources["landau-lifshitz"].data["t"]) == 25
 
 
 def test_summary_of_a_beam_run_points_to_the_beam_tab():

@@ -93,8 +93,8 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts, tmp_path
 
     expected = tracker.compare(scenario)
     unedited = tracker.compare(edited(LASER, lambda d: None))
-    for name in ("damped", "undamped"):
-        cell = page.locator(f"#sum-energy_radiated-{name}")
+    for name, model in (("damped", "landau-lifshitz"), ("undamped", "none")):  # the scenario's model and none
+        cell = page.locator(f"#sum-energy_radiated-{model}")
         want = getattr(expected, name).summary()["energy_radiated"]
         expect(cell).to_have_text(energy_text(want))
         shown = energy_text(want)  # what the page shows (checked just above; re-reading races a redraw)
@@ -105,7 +105,7 @@ def test_edit_run_and_compare_with_the_engine(page, lab_url, artifacts, tmp_path
 
     # the exported file is the engine's full result
     with page.expect_download() as info:
-        page.locator(".download-damped-h5 button").click()
+        page.locator(".download-landau-lifshitz-h5 button").click()
     info.value.save_as(tmp_path / "damped.h5")
     saved = tracker.load_result(tmp_path / "damped.h5")
     assert saved.summary()["energy_radiated"] == expected.damped.summary()["energy_radiated"]
@@ -142,7 +142,7 @@ def test_invalid_entry_shows_the_message_and_the_lab_keeps_working(page, lab_url
     expect(page.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
     run_and_wait(page)
     want = tracker.compare(scenario).damped.summary()["energy_radiated"]
-    expect(page.locator("#sum-energy_radiated-damped")).to_have_text(energy_text(want))
+    expect(page.locator("#sum-energy_radiated-landau-lifshitz")).to_have_text(energy_text(want))
     assert errors == []
 
 
@@ -177,9 +177,9 @@ def test_cancel_stops_a_long_run_and_keeps_a_marked_partial_result(page, lab_url
     page.locator(".cancel-button button").click()
     expect(page.locator('#run-status[data-status="cancelled"]')).to_be_visible(timeout=RUN_TIMEOUT)
     expect(page.locator("#run-status")).to_contain_text("partial")
-    expect(page.locator("#partial-damped")).to_contain_text("cancelled")
-    expect(page.locator("#partial-undamped")).to_be_visible()
-    steps = int(page.locator("#sum-steps-damped").inner_text().replace(",", ""))
+    expect(page.locator("#partial-landau-lifshitz")).to_contain_text("cancelled")
+    expect(page.locator("#partial-none")).to_be_visible()
+    steps = int(page.locator("#sum-steps-landau-lifshitz").inner_text().replace(",", ""))
     planned = int(page.locator("#plan-steps").inner_text().replace(",", ""))
     assert 0 < steps < planned
     expect(page.locator(".run-button button")).to_be_enabled()
@@ -205,7 +205,7 @@ def test_two_sessions_run_side_by_side(browser, lab_url):
         expect(quick.locator("#plan-steps")).to_have_text(f"{scenario.plan().steps:,}")
         run_and_wait(quick)
         want = tracker.compare(scenario).damped.summary()["energy_radiated"]
-        expect(quick.locator("#sum-energy_radiated-damped")).to_have_text(energy_text(want))
+        expect(quick.locator("#sum-energy_radiated-landau-lifshitz")).to_have_text(energy_text(want))
         expect(slow.locator('#run-status[data-status="running"]')).to_be_visible()
 
         # and their scenarios stayed apart

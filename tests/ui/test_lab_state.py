@@ -184,7 +184,9 @@ def test_a_run_shows_exactly_what_compare_returns(state):
         want = getattr(expected, name).summary()
         assert got["energy_radiated"] == want["energy_radiated"]
         assert got["final_energy"] == want["final_energy"]
-    assert state.prepared["orbits"]["paths"]["damped"]["x-y"]["h"].size > 0
+    reference = state.prepared["orbits"]["reference"]
+    assert reference == state.scenario.run.radiation_reaction
+    assert state.prepared["orbits"]["paths"][reference]["x-y"]["h"].size > 0
     assert not state.results_stale
     state.set_value(("field", 0, "B"), ["0 T", "0 T", "1.3 T"])
     assert state.results_stale

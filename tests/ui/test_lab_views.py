@@ -10,7 +10,7 @@ from bokeh.document import Document
 import tracker
 from tracker import constants
 from tracker.fields import MODELS
-from ui.app import TAB_BEAM, TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
+from ui.app import TAB_BEAM, TAB_FIELDS, TAB_PHOTONS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, create_app
 from ui.bundled import bundled_scenarios
 from ui.editors.fields import FieldComposer, model_options
 from ui.editors.run import RunEditor
@@ -104,13 +104,13 @@ def test_drawn_orbit_stays_inside_the_saved_radius_range():
                   0.01 * np.sin(3 * t)], axis=1)
     r_saved = np.hypot(x[:, 0], x[:, 1])
     run = SimpleNamespace(x=x)
-    drawn = prepare_orbits(SimpleNamespace(damped=run, undamped=run))
-    path = drawn["paths"]["damped"]["x-y"]
+    drawn = prepare_orbits(SimpleNamespace(results={"landau-lifshitz": run}, damped=run))
+    path = drawn["paths"]["landau-lifshitz"]["x-y"]
     if len(path["h"]):
         r = np.hypot(path["h"], path["v"])
         assert r.min() >= r_saved.min() - 1e-3 and r.max() <= r_saved.max() + 1e-3
     else:  # too dense for a line: the visited cells, which lie in the ring
-        image = drawn["images"]["damped"]["x-y"]
+        image = drawn["images"]["landau-lifshitz"]["x-y"]
         (h0, v0), (h1, v1) = image["lo"], image["hi"]
         rows, cols = np.nonzero(image["rgba"] >> 24)
         n = image["rgba"].shape[0]
@@ -192,7 +192,7 @@ def test_a_session_renders_to_bokeh_models_with_fields_and_results_tabs():
     lab = create_app()
     root = pn.panel(lab).get_root(Document())
     assert root is not None
-    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, TAB_BEAM]
+    assert lab.tabs.titles == [TAB_FIELDS, TAB_RESULTS, TAB_SCAN, TAB_SPECTRUM, TAB_BEAM, TAB_PHOTONS]
     assert lab.state.scenario is not None
     other = create_app()
     assert other.state is not lab.state  # every session has its own state
@@ -230,9 +230,10 @@ def test_summary_marks_partial_runs_and_shows_engine_warnings(ring):
     comparison.damped.meta.update(complete=False, stop_reason="cancelled")
     comparison.undamped.warnings = [{"kind": "resolution", "message": "few steps per period", "time": 1e-9}]
     text = summary_html(comparison)
-    assert 'id="partial-damped"' in text and 'id="partial-undamped"' not in text
+    damped = comparison.damped.scenario.run.radiation_reaction
+    assert f'id="partial-{damped}"' in text and 'id="partial-none"' not in text
     want = energy_text(comparison.damped.summary()["energy_radiated"])
-    assert f'<td id="sum-energy_radiated-damped">{want}</td>' in text
+    assert f'<td id="sum-energy_radiated-{damped}">{want}</td>' in text
     assert "few steps per period" in text and "resolution" in text
 
 
@@ -260,10 +261,11 @@ def test_tabs_are_built_when_first_shown_and_catch_up_with_the_state():
     assert spectrum._comparison is lab.state.comparison
     assert not spectrum.compute_button.disabled
     orbits = lab.tabs.context.views["orbits"]
-    assert len(orbits.paths[("damped", "x-y")].data["h"]) > 1
+    damped = lab.state.comparison.damped.scenario.run.radiation_reaction
+    assert len(orbits.paths[(damped, "x-y")].data["h"]) > 1
     lab.state.load_bundled("mirror_trap.toml")  # another scenario: the old results go everywhere
     assert lab.state.comparison is None and lab.state.status == "idle"
-    assert len(orbits.paths[("damped", "x-y")].data["h"]) == 0
+    assert len(orbits.paths[(damped, "x-y")].data["h"]) == 0
     assert spectrum._comparison is None and spectrum.compute_button.disabled
 
 
@@ -284,7 +286,7 @@ def test_every_bundled_scenario_previews_runs_and_draws(name):
     assert lab.state.status == "completed", lab.state.status_text
     orbits = lab.state.prepared["orbits"]
     assert orbits["box"] is not None and orbits["plane"] in ("x-y", "x-z", "y-z")
-    series = lab.state.prepared["series"]["runs"]["damped"]
+    series = lab.state.prepared["series"]["runs"][orbits["reference"]]
     assert len(series["t"]) == len(series["gamma"]) > 1
     assert lab.tabs.tabs.active == 1  # the results tab opens after a run
     assert "Scenario.fields_at" in preview.object  # the preview redrew around the orbit

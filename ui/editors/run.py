@@ -90,7 +90,7 @@ class RunEditor(Viewer):
         pusher = self.cache.row(("run", "pusher"), "pusher", "choice", doc="particle pusher",
                           default=schema.run_default("pusher"), choices=schema.pusher_names())
         reaction = self.cache.row(("run", "radiation_reaction"), "radiation reaction", "choice",
-                            doc="model of the damped run (the undamped run switches it off)",
+                            doc="the scenario's own model (the CLI runs it); the lab runs the models ticked in the Run card, and a change here ticks the new one",
                             default=schema.run_default("radiation_reaction"), choices=schema.reaction_names())
         step_default = DEFAULT_STEPS_PER_PERIOD if mode == "steps_per_period" else REQUIRED
         self.rows = [

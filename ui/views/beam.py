@@ -15,11 +15,9 @@ from panel.viewable import Viewer
 
 from ..format import TIME_UNITS, pick_unit
 from .decimate import stride_indices
-from .palette import E_PALETTE, RUN_LABELS, RUN_STYLES, new_figure
+from .palette import DRAW_ORDER, E_PALETTE, MODEL_LABELS, MODEL_STYLES, new_figure, show_legend_items
+from .runs import reference_run, runs_of
 
-RUNS = ("damped", "undamped")
-#: drawn over the other: undamped first, damped on top
-DRAW_ORDER = ("undamped", "damped")
 #: most saved times histogrammed (rows of the heat map); common practice, no source
 MAX_HEAT_TIMES = 300
 #: energy bins of the heat map
@@ -36,12 +34,8 @@ NO_PARTICLES = ("Per-particle energies were not saved (run.save = \"statistics\"
 
 def is_beam(comparison):
     """True when the comparison holds BeamResults."""
-    run = getattr(comparison, "damped", None)
+    run = reference_run(comparison)
     return run is not None and hasattr(run, "stats") and hasattr(run, "has_particles")
-
-
-def _runs(comparison):
-    return {name: getattr(comparison, name, None) for name in RUNS if getattr(comparison, name, None) is not None}
 
 
 def _heat(results, time_scale):
@@ -92,11 +86,11 @@ def prepare_beam(comparison):
     Returns
     -------
     dict
-        ``time_unit``/``time_scale`` (s per unit); ``curves`` {run: {t, <stat keys>}} (SI, t in
-        the time unit); ``heat`` {run: image source data} or None; ``orbits`` {run: {x, y, z}
+        ``time_unit``/``time_scale`` (s per unit); ``curves`` {model: {t, <stat keys>}} (SI, t in
+        the time unit); ``heat`` {model: image source data} or None; ``orbits`` {model: {x, y, z}
         lists of arrays in m}; ``drawn`` particles per run; ``count`` particles in the beam.
     """
-    results = _runs(comparison)
+    results = runs_of(comparison)
     t_max = max((float(r.t[-1]) for r in results.values() if len(r.t)), default=0.0)
     time_unit, time_scale = pick_unit(t_max, TIME_UNITS)
     curves = {}
@@ -121,11 +115,11 @@ def _empty_run():
 
 def single_view_comparison(comparison):
     """What the one-particle views draw for a beam: particle 0's runs, or nothing without particle arrays."""
-    out = {}
-    for name in RUNS:
-        r = getattr(comparison, name, None)
-        out[name] = r.particle(0) if r is not None and r.has_particles and r.count else _empty_run()
-    return SimpleNamespace(**out)
+    results = {name: (r.particle(0) if r.has_particles and r.count else _empty_run())
+               for name, r in runs_of(comparison).items()}
+    damped = getattr(comparison, "damped", None)
+    reference = next((name for name, r in runs_of(comparison).items() if r is damped), None)
+    return SimpleNamespace(results=results, damped=results.get(reference))
 
 
 def beam_toml(draft):
@@ -167,23 +161,24 @@ class BeamView(Viewer):
         super().__init__(**params)
         self.state = state
         self.message = pn.pane.HTML("", sizing_mode="stretch_width")
-        self.curve_sources = {name: ColumnDataSource({"t": [], **{k: [] for k, _ in CURVES}}) for name in RUNS}
+        self.curve_sources = {name: ColumnDataSource({"t": [], **{k: [] for k, _ in CURVES}})
+                              for name in DRAW_ORDER}
         self.heat_sources = {name: ColumnDataSource({"image": [], "x": [], "y": [], "dw": [], "dh": []})
-                             for name in RUNS}
+                             for name in DRAW_ORDER}
         self.orbit_sources = {(name, plane): ColumnDataSource({"xs": [], "ys": []})
-                              for name in RUNS for plane in ("x-z", "x-y")}
+                              for name in DRAW_ORDER for plane in ("x-z", "x-y")}
         self.curve_figures = []
         for key, label in CURVES:
             fig = new_figure(label, "t", label, height=230)
             items = []
             for name in DRAW_ORDER:
-                line = fig.line("t", key, source=self.curve_sources[name], **RUN_STYLES[name])
-                items.append((RUN_LABELS[name], [line]))
+                line = fig.line("t", key, source=self.curve_sources[name], **MODEL_STYLES[name])
+                items.append((MODEL_LABELS[name], [line]))
             fig.add_layout(Legend(items=items, location="top_left"), "right")
             self.curve_figures.append(fig)
         self.heat_figures = {}
-        for name in RUNS:
-            fig = new_figure(f"gamma distribution over time, {RUN_LABELS[name]}", "t", "gamma", height=260)
+        for name in DRAW_ORDER:
+            fig = new_figure(f"gamma distribution over time, {MODEL_LABELS[name]}", "t", "gamma", height=260)
             fig.image(image="image", x="x", y="y", dw="dw", dh="dh", palette=E_PALETTE,
                       source=self.heat_sources[name])
             self.heat_figures[name] = fig
@@ -192,12 +187,14 @@ class BeamView(Viewer):
             fig = new_figure(f"orbits, {plane} projection", f"{a} (m)", f"{b} (m)", height=300)
             items = []
             for name in DRAW_ORDER:
-                style = dict(RUN_STYLES[name], line_width=1, line_alpha=0.6)
+                style = dict(MODEL_STYLES[name], line_width=1, line_alpha=0.6)
                 lines = fig.multi_line("xs", "ys", source=self.orbit_sources[(name, plane)], **style)
-                items.append((RUN_LABELS[name], [lines]))
+                items.append((MODEL_LABELS[name], [lines]))
             fig.add_layout(Legend(items=items, location="top_left"), "right")
             self.orbit_figures.append(fig)
-        self.heat_row = pn.Row(*self.heat_figures.values(), sizing_mode="stretch_width")
+        self.heat_panes = {name: pn.pane.Bokeh(fig, sizing_mode="stretch_width", visible=False)
+                           for name, fig in self.heat_figures.items()}
+        self.heat_row = pn.GridBox(*self.heat_panes.values(), ncols=2, sizing_mode="stretch_width")
         self.orbit_row = pn.Row(*self.orbit_figures, sizing_mode="stretch_width")
         self.layout = pn.Column(self.message, self.heat_row, pn.GridBox(*self.curve_figures, ncols=2,
                                 sizing_mode="stretch_width"), self.orbit_row, sizing_mode="stretch_width")
@@ -217,17 +214,19 @@ class BeamView(Viewer):
         notes = []
         for fig in self.curve_figures + list(self.heat_figures.values()):
             fig.xaxis.axis_label = f"t ({data['time_unit']})"
-        for name in RUNS:
+        show_legend_items(self.curve_figures + self.orbit_figures, data["curves"])
+        for name in DRAW_ORDER:
             curves = data["curves"].get(name)
             self.curve_sources[name].data = curves if curves else {"t": [], **{k: [] for k, _ in CURVES}}
         heat = data["heat"]
         self.heat_row.visible = heat is not None
-        for name in RUNS:
+        for name in DRAW_ORDER:
             self.heat_sources[name].data = (heat or {}).get(name) or {"image": [], "x": [], "y": [], "dw": [], "dh": []}
+            self.heat_panes[name].visible = name in (heat or {})
         if heat is None:
             notes.append(NO_PARTICLES)
         self.orbit_row.visible = data["drawn"] > 0
-        for name in RUNS:
+        for name in DRAW_ORDER:
             orbit = data["orbits"].get(name, {"x": [], "y": [], "z": []})
             self.orbit_sources[(name, "x-z")].data = {"xs": list(orbit["z"]), "ys": list(orbit["x"])}
             self.orbit_sources[(name, "x-y")].data = {"xs": list(orbit["x"]), "ys": list(orbit["y"])}

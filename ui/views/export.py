@@ -1,4 +1,4 @@
-"""Export: each run's full Result as HDF5 or CSV (written by Result.to_hdf5 / to_csv)."""
+"""Export: each model run's full Result as HDF5 or CSV (written by Result.to_hdf5 / to_csv)."""
 
 import io
 import tempfile
@@ -9,8 +9,9 @@ from panel.viewable import Viewer
 
 from ..editors.source import scenario_stem
 from ..theme import html_pane
+from .palette import DRAW_ORDER, MODEL_LABELS
+from .runs import runs_of
 
-RUNS = ("damped", "undamped")
 FORMATS = {"h5": "HDF5", "csv": "CSV"}
 
 
@@ -26,22 +27,23 @@ def result_bytes(result, suffix):
 
 
 class ExportView(Viewer):
-    """Download buttons for both runs in both formats (full data, not the drawn points)."""
+    """Download buttons for every model run in both formats (full data, not the drawn points)."""
 
     def __init__(self, state, **params):
         super().__init__(**params)
         self.state = state
         self.buttons = {}
-        for name in RUNS:
+        for name in DRAW_ORDER:
             for suffix, label in FORMATS.items():
                 button = pn.widgets.FileDownload(
                     callback=lambda n=name, s=suffix: self._file(n, s), filename=f"result-{name}.{suffix}",
-                    label=f"{name} · {label}", width=170, margin=(4, 6), disabled=True,
-                    css_classes=[f"download-{name}-{suffix}"])
+                    label=f"{MODEL_LABELS[name]} · {label}", width=210, margin=(4, 6), disabled=True,
+                    visible=False, css_classes=[f"download-{name}-{suffix}"])
                 self.buttons[(name, suffix)] = button
         self._note = html_pane(
-            '<div class="ro-note">Full saved states in SI with units (HDF5 also holds the scenario and the '
-            "run metadata). Plots: use the save tool in each plot's toolbar for a PNG.</div>",
+            '<div class="ro-note">Full saved states in SI with units (HDF5 also holds the scenario, the '
+            "run metadata and any recorded photons). Plots: use the save tool in each plot's toolbar for a "
+            "PNG.</div>",
             sizing_mode="stretch_width", margin=(0, 8))
         self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0, styles={"flex-wrap": "wrap"},
                                         sizing_mode="stretch_width"), self._note,
@@ -54,14 +56,16 @@ class ExportView(Viewer):
 
     def _refresh(self, *_):
         stem = scenario_stem(self.state.source)
-        have = self.state.comparison is not None
+        runs = runs_of(self.state.comparison)
         for (name, suffix), button in self.buttons.items():
-            button.disabled = not have
-            partial = have and not getattr(self.state.comparison, name).complete
+            run = runs.get(name)
+            button.disabled = run is None
+            button.visible = run is not None
+            partial = run is not None and not run.complete
             button.filename = f"{stem}-{name}{'-partial' if partial else ''}.{suffix}"
 
     def _file(self, name, suffix):
-        comparison = self.state.comparison
-        if comparison is None:
+        run = runs_of(self.state.comparison).get(name)
+        if run is None:
             return None
-        return io.BytesIO(result_bytes(getattr(comparison, name), suffix))
+        return io.BytesIO(result_bytes(run, suffix))

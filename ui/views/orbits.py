@@ -1,4 +1,4 @@
-"""Orbit projections x-y, x-z, y-z of the damped and undamped runs, with linked zoom.
+"""Orbit projections x-y, x-z, y-z of every model run, with linked zoom.
 
 The three plots share one range per coordinate (x-y and x-z share x, and so on), so
 zooming one moves the others. With "same scale on all axes" a circle looks round;
@@ -15,9 +15,9 @@ from ..format import LENGTH_UNITS, pick_unit
 from ..theme import checkbox, html_pane
 from .decimate import DENSITY_CELLS, MAX_ORBIT_POINTS, PATH_CELLS, density_image, path_indices
 from .document import apply_to_models
-from .palette import RUN_STYLES, START_COLOR, new_figure, style_legend
+from .palette import DRAW_ORDER, MODEL_LABELS, MODEL_STYLES, START_COLOR, new_figure, show_legend_items, style_legend
+from .runs import reference_model, runs_of
 
-RUNS = ("damped", "undamped")
 AXES = "xyz"
 #: (title, horizontal axis, vertical axis) of each projection
 PROJECTIONS = (("x-y", "x", "y"), ("x-z", "x", "z"), ("y-z", "y", "z"))
@@ -28,11 +28,10 @@ FIT_MARGIN = 1.15
 EQUAL_SCALE_RATIO = 20.0
 #: plot frame size in px (three fit beside the sidebar on a 1600 px screen; they wrap on smaller ones)
 FRAME = 285
-#: orbit lines: the undamped one wide and light under the damped one, so both show where they coincide
-ORBIT_STYLES = {
-    "undamped": dict(color=RUN_STYLES["undamped"]["color"], line_width=4.0, line_alpha=0.45),
-    "damped": dict(color=RUN_STYLES["damped"]["color"], line_width=1.6),
-}
+#: orbit lines: the run without reaction force wide and light under the others, so every run shows
+#: where they coincide
+ORBIT_STYLES = {model: dict(color=MODEL_STYLES[model]["color"], line_width=1.6) for model in DRAW_ORDER}
+ORBIT_STYLES["none"] = dict(color=MODEL_STYLES["none"]["color"], line_width=4.0, line_alpha=0.45)
 
 
 def _empty_orbit():
@@ -68,23 +67,25 @@ def prepare_orbits(comparison):
     Returns
     -------
     dict
-        ``paths`` {run: {projection: {h, v}}} in m, thinned with ``path_indices`` (a path
-        too dense for a line is empty there and drawn from ``images`` {run: {projection:
+        ``paths`` {model: {projection: {h, v}}} in m, thinned with ``path_indices`` (a path
+        too dense for a line is empty there and drawn from ``images`` {model: {projection:
         RGBA (cells, cells)}} instead); ``notes`` {projection: text saying how it was
         thinned, '' when every state is drawn}; ``start`` and ``ends`` (m); ``lo``/``hi``
         (3,) m; ``box`` = (centre (3,) m, half-width m) or None; ``plane`` with the two
-        widest spans; ``equal`` whether equal axis scales suit this orbit.
+        widest spans; ``equal`` whether equal axis scales suit this orbit; ``reference`` the
+        model whose orbit the field preview draws.
     """
-    results = {name: getattr(comparison, name) for name in RUNS}
+    results = runs_of(comparison)
+    reference = reference_model(comparison)
     points = [r.x for r in results.values() if len(r.x)]
-    empty_paths = {name: {title: _empty_path() for title, _a, _b in PROJECTIONS} for name in RUNS}
+    empty_paths = {name: {title: _empty_path() for title, _a, _b in PROJECTIONS} for name in results}
     if not points:
         return {"paths": empty_paths, "images": {}, "notes": {}, "start": None, "ends": {}, "lo": None,
-                "hi": None, "box": None, "plane": "x-y", "equal": True}
+                "hi": None, "box": None, "plane": "x-y", "equal": True, "reference": reference}
     allx = np.concatenate(points)
     finite = np.all(np.isfinite(allx), axis=1)
     lo, hi = allx[finite].min(axis=0), allx[finite].max(axis=0)
-    paths, images, ends, notes = empty_paths, {name: {} for name in RUNS}, {}, {}
+    paths, images, ends, notes = empty_paths, {name: {} for name in results}, {}, {}
     for title, a, b in PROJECTIONS:
         ia, ib = AXES.index(a), AXES.index(b)
         window = ((lo[ia], lo[ib]), (hi[ia], hi[ib]))
@@ -101,7 +102,7 @@ def prepare_orbits(comparison):
             else:
                 dense = True
                 counts = density_image(h, v, *window)
-                images[name][title] = {"rgba": _rgba(counts, RUN_STYLES[name]["color"]), "lo": window[0],
+                images[name][title] = {"rgba": _rgba(counts, MODEL_STYLES[name]["color"]), "lo": window[0],
                                        "hi": window[1]}
         if dense:
             notes[title] = (f"{title}: the path is too dense for a line, drawn as the cells it visits "
@@ -112,7 +113,8 @@ def prepare_orbits(comparison):
     for name, r in results.items():
         if len(r.x):
             ends[name] = r.x[-1].copy()
-    start = results["damped"].x[0].copy() if len(results["damped"].x) else None
+    first = results.get(reference)
+    start = first.x[0].copy() if first is not None and len(first.x) else None
     spread = hi - lo
     half = 0.5 * float(np.max(spread)) * FIT_MARGIN
     widest = sorted(np.argsort(spread, kind="stable")[-2:])
@@ -120,7 +122,7 @@ def prepare_orbits(comparison):
     return {"paths": paths, "images": images, "notes": notes, "start": start, "ends": ends, "lo": lo, "hi": hi,
             "box": (0.5 * (lo + hi), half) if half > 0 else None,
             "plane": f"{AXES[widest[0]]}-{AXES[widest[1]]}",
-            "equal": bool(ordered[1] > 0 and ordered[2] <= EQUAL_SCALE_RATIO * ordered[1])}
+            "equal": bool(ordered[1] > 0 and ordered[2] <= EQUAL_SCALE_RATIO * ordered[1]), "reference": reference}
 
 
 def axis_frames(lo, hi, equal):
@@ -152,10 +154,11 @@ class OrbitView(Viewer):
         super().__init__(**params)
         self.state = state
         self.ranges = {axis: Range1d(-1, 1) for axis in AXES}
-        self.paths = {(name, title): ColumnDataSource(_empty_path()) for name in RUNS for title, _a, _b in PROJECTIONS}
-        self.images = {(name, title): ColumnDataSource(_empty_image()) for name in RUNS
+        self.paths = {(name, title): ColumnDataSource(_empty_path()) for name in DRAW_ORDER
+                      for title, _a, _b in PROJECTIONS}
+        self.images = {(name, title): ColumnDataSource(_empty_image()) for name in DRAW_ORDER
                        for title, _a, _b in PROJECTIONS}
-        self.ends = {name: ColumnDataSource(_empty_orbit()) for name in RUNS}
+        self.ends = {name: ColumnDataSource(_empty_orbit()) for name in DRAW_ORDER}
         self.start = ColumnDataSource(_empty_orbit())
         self.figures = []
         for title, a, b in PROJECTIONS:
@@ -163,19 +166,21 @@ class OrbitView(Viewer):
             # a short title: with the toolbar beside it, a longer one widened the frame (unequal scales)
             fig = new_figure(f"{title} projection", f"{a} (m)", f"{b} (m)", height=FRAME,
                              frame_width=FRAME, x_range=self.ranges[a], y_range=self.ranges[b])
-            # undamped first and wider, damped on top: where they coincide both stay visible
-            for name in ("undamped", "damped"):
+            # no reaction force first and wider, the damped models on top: where they coincide all stay visible
+            for name in DRAW_ORDER:
                 fig.image_rgba(image="image", x="x", y="y", dw="dw", dh="dh", source=self.images[(name, title)])
-            for name in ("undamped", "damped"):
-                fig.line("h", "v", source=self.paths[(name, title)], legend_label=name, **ORBIT_STYLES[name])
+            for name in DRAW_ORDER:
+                fig.line("h", "v", source=self.paths[(name, title)], legend_label=MODEL_LABELS[name],
+                         **ORBIT_STYLES[name])
                 fig.scatter(a, b, source=self.ends[name], size=7, marker="square",
-                            color=RUN_STYLES[name]["color"], legend_label=name)
+                            color=MODEL_STYLES[name]["color"], legend_label=MODEL_LABELS[name])
             fig.scatter(a, b, source=self.start, size=9, marker="circle", fill_color="white",
                         line_color=START_COLOR, line_width=2)
             # a legend under the plot wider than the frame would widen the frame (unequal scales):
-            # two short entries only; start and end markers are explained above the plots
+            # one entry per line; start and end markers are explained above the plots
             style_legend(fig)
-            fig.legend[0].spacing = 8
+            fig.legend[0].orientation = "vertical"
+            fig.legend[0].spacing = 2
             fig.sizing_mode = "fixed"
             self.figures.append(fig)
         self.equal = checkbox("same scale on all axes", value=True, margin=(6, 8),
@@ -219,6 +224,7 @@ class OrbitView(Viewer):
                 source.data = _empty_image()
             for source in (*self.ends.values(), self.start):
                 source.data = _empty_orbit()
+            show_legend_items(self.figures, {})
 
         apply_to_models(change)
 
@@ -235,8 +241,8 @@ class OrbitView(Viewer):
 
         paths, images = {}, {}
         for title, a, b in PROJECTIONS:
-            for name in RUNS:
-                run = data["paths"][name][title]
+            for name in DRAW_ORDER:
+                run = data["paths"].get(name, {}).get(title, _empty_path())
                 paths[(name, title)] = {"h": np.asarray(run["h"]) / scale[a], "v": np.asarray(run["v"]) / scale[b]}
                 image = data["images"].get(name, {}).get(title)
                 if image is None:
@@ -254,7 +260,8 @@ class OrbitView(Viewer):
                 source.data = paths[key]
             for key, source in self.images.items():
                 source.data = images[key]
-            for name in RUNS:
+            show_legend_items(self.figures, data["paths"])
+            for name in DRAW_ORDER:
                 end = data["ends"].get(name)
                 self.ends[name].data = scaled(end) if end is not None else _empty_orbit()
             self.start.data = scaled(data["start"]) if data["start"] is not None else _empty_orbit()

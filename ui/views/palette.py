@@ -3,12 +3,26 @@
 from bokeh.palettes import Cividis256, Inferno256, RdBu11, interp_palette
 from bokeh.plotting import figure
 
-#: damped = radiation reaction on; undamped = off (what it would radiate)
-RUN_STYLES = {
-    "damped": dict(color="#c2410c", line_width=2.2, line_dash="solid"),
-    "undamped": dict(color="#1d5f8a", line_width=1.8, line_dash=[6, 4]),
+from tracker.engine import MODEL_ORDER
+
+#: every radiation-reaction model is drawn in the same colour and dash wherever it appears, so a
+#: curve is recognised across tabs and runs (colours and dashes of our own choosing, told apart
+#: by dash as well as hue)
+MODEL_STYLES = {
+    "none": dict(color="#1d5f8a", line_width=1.8, line_dash=[6, 4]),
+    "landau-lifshitz": dict(color="#c2410c", line_width=2.2, line_dash="solid"),
+    "landau-lifshitz-quantum": dict(color="#7b3294", line_width=2.0, line_dash=[2, 3]),
+    "quantum-stochastic": dict(color="#1a7f37", line_width=1.6, line_dash="solid"),
 }
-RUN_LABELS = {"damped": "damped", "undamped": "undamped (no reaction force)"}
+#: short names of the models in legends and table heads
+MODEL_LABELS = {
+    "none": "no reaction force",
+    "landau-lifshitz": "Landau–Lifshitz",
+    "landau-lifshitz-quantum": "quantum-corrected LL",
+    "quantum-stochastic": "stochastic emission",
+}
+#: drawing order: the run without reaction force underneath, the stochastic one on top
+DRAW_ORDER = MODEL_ORDER
 START_COLOR = "#111827"
 
 E_PALETTE = Inferno256
@@ -54,3 +68,22 @@ def style_legend(fig):
     legend.padding = 2
     legend.margin = 2
     legend.border_line_alpha = 0
+
+
+def legend_text(item):
+    """The text of a legend entry (a LegendItem's label is a value spec or a plain string)."""
+    label = item.label
+    if isinstance(label, dict):
+        return label.get("value")
+    return getattr(label, "value", label)
+
+
+def show_legend_items(figures, models):
+    """Show legend entries only for the models run (entries named by ``MODEL_LABELS``)."""
+    shown = {MODEL_LABELS[m] for m in models}
+    for fig in figures:
+        for legend in fig.legend:
+            for item in legend.items:
+                text = legend_text(item)
+                if text in MODEL_LABELS.values():
+                    item.visible = text in shown

@@ -19,7 +19,7 @@ from tracker.units import parse_scalar, parse_vector
 from ..entries import entry_to_raw
 from ..format import LENGTH_UNITS, TIME_UNITS, pick_unit, quantity_text
 from .document import apply_to_models
-from .palette import B_PALETTE, COMPONENT_PALETTE, E_PALETTE, RUN_STYLES, START_COLOR, new_figure
+from .palette import B_PALETTE, COMPONENT_PALETTE, E_PALETTE, MODEL_LABELS, START_COLOR, new_figure
 from ..theme import checkbox, html_pane
 
 PLANES = {"x-y": (0, 1), "x-z": (0, 2), "y-z": (1, 2)}
@@ -148,7 +148,7 @@ class FieldPreview(Viewer):
                            formatter=tick_formatter("log" if key != "C" else "linear"))
             fig.add_layout(bar, "right")
             fig.line("h", "v", source=self.orbit, color="white", line_width=1.4, alpha=0.9)
-            fig.line("h", "v", source=self.orbit, color=RUN_STYLES["damped"]["color"], line_width=0.8)
+            fig.line("h", "v", source=self.orbit, color=START_COLOR, line_width=0.8)
             fig.scatter("h", "v", source=self.start, size=10, marker="circle", fill_color="white",
                         line_color=START_COLOR, line_width=2)
             self.images[key], self.mappers[key], self.colorbars[key] = source, mappers, bar
@@ -384,14 +384,19 @@ class FieldPreview(Viewer):
             f'<div class="ro-note" id="preview-message" data-valid="true">{plane} plane through ({where}) {unit}, '
             f"t = {quantity_text(t, TIME_UNITS, 4)}, {GRID}×{GRID} points from Scenario.fields_at; "
             "white dot: particle start"
-            + ("; line: last damped orbit" if len(orbit["h"]) else "")
+            + (f"; line: last orbit ({self._orbit_model()})" if len(orbit["h"]) else "")
             + (f"; {'; '.join(notes)}" if notes else "") + ".</div>")
+
+    def _orbit_model(self):
+        reference = (self.state.prepared or {}).get("orbits", {}).get("reference")
+        return MODEL_LABELS.get(reference, "")
 
     def _orbit_projection(self, a, b, scale):
         prepared = self.state.prepared
-        if not prepared:
+        if not prepared or prepared["orbits"].get("reference") is None:
             return {"h": [], "v": []}
-        path = prepared["orbits"]["paths"]["damped"].get(f"{AXES[a]}-{AXES[b]}", {"h": [], "v": []})
+        paths = prepared["orbits"]["paths"].get(prepared["orbits"]["reference"], {})
+        path = paths.get(f"{AXES[a]}-{AXES[b]}", {"h": [], "v": []})
         return {"h": np.asarray(path["h"]) / scale, "v": np.asarray(path["v"]) / scale}
 
 

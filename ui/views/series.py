@@ -1,4 +1,4 @@
-"""Time series of both runs: γ(t), Liénard power P(t) (linear or log), radiated energy W(t), χ(t)."""
+"""Time series of every model run: γ(t), Liénard power P(t) (linear or log), radiated energy W(t), χ(t)."""
 
 import numpy as np
 import panel as pn
@@ -11,9 +11,9 @@ from ..format import TIME_UNITS, energy_unit, pick_unit
 from .decimate import MAX_SERIES_BUCKETS, minmax_indices
 from .document import apply_to_models
 from ..theme import checkbox
-from .palette import RUN_LABELS, RUN_STYLES, new_figure, style_legend
+from .palette import DRAW_ORDER, MODEL_LABELS, MODEL_STYLES, new_figure, show_legend_items, style_legend
+from .runs import runs_of
 
-RUNS = ("damped", "undamped")
 COLUMNS = ("t", "gamma", "power", "power_log", "energy", "chi")
 
 
@@ -22,7 +22,7 @@ def _empty():
 
 
 def prepare_series(comparison):
-    """Decimated time series of both runs in common display units.
+    """Decimated time series of every model run in common display units.
 
     Parameters
     ----------
@@ -32,10 +32,10 @@ def prepare_series(comparison):
     -------
     dict
         ``time_unit``/``time_scale`` (s per unit), ``energy_unit``/``energy_scale`` (J per
-        unit), ``runs`` {name: {t, gamma, power (W), power_log (W, NaN where <= 0),
+        unit), ``runs`` {model: {t, gamma, power (W), power_log (W, NaN where <= 0),
         energy (cumulative radiated, in energy units), chi}}.
     """
-    results = {name: getattr(comparison, name) for name in RUNS}
+    results = runs_of(comparison)
     t_max = max((float(r.t[-1]) for r in results.values() if len(r.t)), default=0.0)
     w_max = max((float(np.max(np.abs(r.radiated_energy))) for r in results.values() if len(r.t)), default=0.0)
     time_unit, time_scale = pick_unit(t_max, TIME_UNITS)
@@ -106,7 +106,7 @@ class SeriesView(Viewer):
         # explicit ranges, set from each result: auto-ranging kept the extent of an earlier run
         t_range = Range1d(0, 1)
         self.ranges = {"t": t_range}
-        self.sources = {name: ColumnDataSource(_empty()) for name in RUNS}
+        self.sources = {model: ColumnDataSource(_empty()) for model in DRAW_ORDER}
         specs = {
             "gamma": ("Lorentz factor γ(t)", "γ", {}),
             "power": ("Liénard power P(t)", "P (W)", {}),
@@ -119,8 +119,9 @@ class SeriesView(Viewer):
             self.ranges[column] = Range1d(1, 10) if column == "power_log" else Range1d(0, 1)
             fig = new_figure(title, "t (s)", ylabel, height=250, x_range=t_range, y_range=self.ranges[column],
                              **extra)
-            for name in RUNS:
-                fig.line("t", column, source=self.sources[name], legend_label=RUN_LABELS[name], **RUN_STYLES[name])
+            for model in DRAW_ORDER:
+                fig.line("t", column, source=self.sources[model], legend_label=MODEL_LABELS[model],
+                         **MODEL_STYLES[model])
             style_legend(fig)
             self.figures[column] = fig
         # a checkbox with its label: a click on the words toggles it too
@@ -152,14 +153,16 @@ class SeriesView(Viewer):
             def clear():  # no results (another scenario was opened): empty plots, not the old run
                 for source in self.sources.values():
                     source.data = _empty()
+                show_legend_items(self.figures.values(), {})
 
             apply_to_models(clear)
             return
         data = prepared["series"]
 
         def change():
-            for name in RUNS:
-                self.sources[name].data = data["runs"][name]
+            for model, source in self.sources.items():
+                source.data = data["runs"].get(model) or _empty()
+            show_legend_items(self.figures.values(), data["runs"])
             for column, limits in data["limits"].items():
                 if limits is not None:
                     self.ranges[column].update(start=limits[0], end=limits[1], reset_start=limits[0],

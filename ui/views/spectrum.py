@@ -1,4 +1,4 @@
-"""Spectrum tab: what a detector would see from the damped and the undamped orbit.
+"""Spectrum tab: what a detector would see from the orbit of every model run.
 
 A view only: every number comes from ``tracker.radiation`` (``spectra`` is also what
 ``radorbit spectrum`` calls); this module picks display units and draws. It reads the
@@ -12,7 +12,7 @@ session's ``LabState`` like every other view, and its computation is a queued
   direction (the mean velocity unless one is typed), d^2W/(domega dOmega); an
   optional photon-energy range; log axes over photon energy in eV, keV or MeV.
 - Angular map (cheap, redrawn when the time slider is released): dP/dOmega of
-  one saved state per unit emission time, damped and undamped side by side on
+  one saved state per unit emission time, every model run side by side on
   one colour scale, with theta measured from the velocity (in units of 1/gamma)
   or from lab +z.
 """
@@ -27,15 +27,10 @@ from tracker import ScenarioError
 from tracker import radiation
 
 from ..session import SessionLink
-from .palette import style_legend
 from ..work import Job
+from .palette import DRAW_ORDER, MODEL_LABELS, MODEL_STYLES, show_legend_items, style_legend
+from .runs import reference_run, runs_of
 
-RUNS = ("damped", "undamped")
-RUN_LABELS = {"damped": "damped", "undamped": "undamped (no reaction force)"}
-RUN_STYLES = {
-    "damped": dict(color="#c2410c", line_width=2.2),
-    "undamped": dict(color="#1d5f8a", line_width=1.8, line_dash=[6, 4]),
-}
 METHODS = {
     "Automatic: chosen by the orbit": "auto",
     "Synchrotron spectrum, all directions": "synchrotron",
@@ -90,7 +85,7 @@ def parse_lab_direction(text):
 
 
 def compute_spectra(comparison, method, omega_range=None, direction=None):
-    """Spectra of both runs for display.
+    """Spectra of every model run for display (the method and default grid follow the reference run).
 
     Parameters
     ----------
@@ -104,38 +99,40 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
     Returns
     -------
     dict
-        ``runs``: {name: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text),
+        ``runs``: {model: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text),
         ``method`` (the one used).
     """
     from tracker.radiation.choice import check_synchrotron, choose_method, clip_to_ceiling, quantum_note
 
     runs = {}
     notes = []
+    reference = reference_run(comparison)
     if method == "auto":
-        method, reason = choose_method(comparison.damped, None if direction is None else direction[None, :])
+        method, reason = choose_method(reference, None if direction is None else direction[None, :])
         notes.append(f"method chosen: {reason}")
         if method == "synchrotron" and direction is not None:
             notes.append("the direction does not apply (summed over all directions)")
     elif method == "synchrotron":
-        check_synchrotron(comparison.damped)
+        check_synchrotron(reference)
     if omega_range is not None:
         omega = np.geomspace(omega_range[0], omega_range[1], RANGE_POINTS)
     elif method == "synchrotron":
-        omega = radiation.default_synchrotron_omega(comparison.damped, SPECTRUM_POINTS[method])
+        omega = radiation.default_synchrotron_omega(reference, SPECTRUM_POINTS[method])
     else:
-        direction = radiation.default_direction(comparison.damped) if direction is None else direction
-        omega = radiation.default_omega(comparison.damped, direction[None, :], SPECTRUM_POINTS[method])
-    omega, cut = clip_to_ceiling(comparison.damped, omega)
-    notes += [n for n in (cut, quantum_note(comparison.damped)) if n]
-    results = {name: getattr(comparison, name) for name in RUNS}
+        direction = radiation.default_direction(reference) if direction is None else direction
+        omega = radiation.default_omega(reference, direction[None, :], SPECTRUM_POINTS[method])
+    omega, cut = clip_to_ceiling(reference, omega)
+    notes += [n for n in (cut, quantum_note(reference)) if n]
+    results = {name: result for name, result in runs_of(comparison).items() if result is reference}
+    results.update(runs_of(comparison))  # the reference run first: the spectra share its grid
     if method == "synchrotron":
         found = radiation.spectra(results, method, omega)  # the function `radorbit spectrum` calls
         runs = {name: (found.photon_energy_ev, values) for name, values in found.values.items()}
         ylabel = "dW/dω (J s), all directions"
-        wc = radiation.critical_frequency(comparison.damped)
+        wc = radiation.critical_frequency(reference)
         notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc.max())):.4g} eV")
     else:
-        direction = radiation.default_direction(comparison.damped) if direction is None else direction
+        direction = radiation.default_direction(reference) if direction is None else direction
         found = radiation.spectra(results, method, omega, direction[None, :])
         runs = {name: (found.photon_energy_ev, values[0]) for name, values in found.values.items()}
         ylabel = "d²W/dω dΩ (J s/sr)"
@@ -147,17 +144,17 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
 
 
 def compute_maps(comparison, index, frame):
-    """dP/dOmega (W/sr) of both runs at the damped run's saved state ``index`` (undamped: nearest time).
+    """dP/dOmega (W/sr) of every model run at the reference run's saved state ``index`` (others: nearest time).
 
     Returns
     -------
     dict
-        ``maps`` {name: (n_theta, n_phi) array}, ``theta_extent`` (display units),
+        ``maps`` {model: (n_theta, n_phi) array}, ``theta_extent`` (display units),
         ``theta_label``, ``time`` (s), ``gamma``.
     """
-    damped = comparison.damped
-    t = float(damped.t[index])
-    gamma = float(damped.gamma[index])
+    reference = reference_run(comparison)
+    t = float(reference.t[index])
+    gamma = float(reference.gamma[index])
     phi = np.linspace(0.0, 2.0 * np.pi, MAP_SHAPE[1])
     if frame == "velocity":
         extent = VELOCITY_FRAME_EXTENT
@@ -168,20 +165,19 @@ def compute_maps(comparison, index, frame):
         theta = np.linspace(0.0, np.pi, MAP_SHAPE[0])
         label = "θ from +z (deg)"
     maps = {}
-    for name in RUNS:
-        result = getattr(comparison, name)
+    for name, result in runs_of(comparison).items():
         i = int(np.clip(np.searchsorted(result.t, t), 0, len(result.t) - 1))
         maps[name] = radiation.angular_distribution(result, i, theta, phi, axis=frame)
     return {"maps": maps, "theta_extent": extent, "theta_label": label, "time": t, "gamma": gamma}
 
 
 class SpectrumPanel(Viewer):
-    """Spectrum and angular distribution of the session's latest damped/undamped pair.
+    """Spectrum and angular distribution of every model run of the session's latest comparison.
 
     Parameters
     ----------
     state : ui.state.LabState, optional
-        Followed for new results (without it, feed pairs with ``update``).
+        Followed for new results (without it, feed comparisons with ``update``).
     link : ui.session.SessionLink, optional
         Hands the spectrum job back to the page and cancels it when the tab closes.
     """
@@ -208,32 +204,33 @@ class SpectrumPanel(Viewer):
         self.frame = pn.widgets.RadioButtonGroup(options=FRAMES, value="velocity", color="light")
         self.map_status = pn.pane.Str("", css_classes=["angular-status"], sizing_mode="stretch_width")
 
-        self.spectrum_sources = {name: ColumnDataSource(dict(x=[], y=[])) for name in RUNS}
+        self.spectrum_sources = {name: ColumnDataSource(dict(x=[], y=[])) for name in DRAW_ORDER}
         self.spectrum_figure = figure(title="Radiated spectrum", x_axis_type="log", y_axis_type="log", height=320,
                                       sizing_mode="stretch_width", tools=TOOLS, toolbar_location="above")
         self.spectrum_figure.xaxis.axis_label = "photon energy (eV)"
         self.spectrum_figure.yaxis.axis_label = "dW/dω (J s)"
-        for name in RUNS:
-            self.spectrum_figure.line("x", "y", source=self.spectrum_sources[name], legend_label=RUN_LABELS[name],
-                                      **RUN_STYLES[name])
+        for name in DRAW_ORDER:
+            self.spectrum_figure.line("x", "y", source=self.spectrum_sources[name], legend_label=MODEL_LABELS[name],
+                                      **MODEL_STYLES[name])
         style_legend(self.spectrum_figure)  # under the plot, clear of the data
         self.spectrum_figure.toolbar.logo = None
 
         self.color_mapper = LinearColorMapper(palette="Viridis256", low=0.0, high=1.0)
         empty = dict(image=[np.zeros((2, 2))], x=[0.0], y=[0.0], dw=[360.0], dh=[1.0])
-        self.map_sources = {name: ColumnDataSource(dict(empty)) for name in RUNS}
+        self.map_sources = {name: ColumnDataSource(dict(empty)) for name in DRAW_ORDER}
         self.map_figures = {}
-        for name in RUNS:
-            fig = figure(title=f"dP/dΩ, {RUN_LABELS[name]}", height=300, width=420, tools=TOOLS,
+        for name in DRAW_ORDER:
+            fig = figure(title=f"dP/dΩ, {MODEL_LABELS[name]}", height=300, width=420, tools=TOOLS,
                          toolbar_location="above", x_range=(0.0, 360.0), y_range=(0.0, 1.0))
             fig.image(image="image", x="x", y="y", dw="dw", dh="dh", source=self.map_sources[name],
                       color_mapper=self.color_mapper)
             fig.xaxis.axis_label = "φ (deg)"
             fig.yaxis.axis_label = "γθ from the velocity"
             fig.toolbar.logo = None
+            # one colour scale for every map: each carries its bar, since any of them may be hidden
+            fig.add_layout(ColorBar(color_mapper=self.color_mapper, title="W/sr", width=10), "right")
             self.map_figures[name] = fig
-        self.map_figures["undamped"].add_layout(
-            ColorBar(color_mapper=self.color_mapper, title="W/sr", width=10), "right")
+        self.map_panes = {name: pn.pane.Bokeh(fig, visible=False) for name, fig in self.map_figures.items()}
 
         self.compute_button.on_click(self._on_compute)
         self.time_slider.param.watch(self._on_map_change, "value_throttled")
@@ -247,7 +244,7 @@ class SpectrumPanel(Viewer):
             pn.pane.Markdown("#### Angular distribution of the emitted power, per unit emission time"),
             pn.Row(self.time_slider, self.frame),
             self.map_status,
-            pn.Row(pn.pane.Bokeh(self.map_figures["damped"]), pn.pane.Bokeh(self.map_figures["undamped"])),
+            pn.Row(*self.map_panes.values(), styles={"flex-wrap": "wrap"}, sizing_mode="stretch_width"),
             sizing_mode="stretch_width",
         )
         self.error = pn.pane.HTML("", visible=False, sizing_mode="stretch_width")
@@ -291,13 +288,18 @@ class SpectrumPanel(Viewer):
 
     # ------------------------------------------------------------------ inputs
     def update(self, comparison):
-        """Show a new damped/undamped pair: reset the spectrum, redraw the angular maps."""
+        """Show a new comparison: reset the spectrum, redraw the angular maps."""
         self.cancel()
         self._comparison = comparison
         for source in self.spectrum_sources.values():
             source.data = dict(x=[], y=[])
-        n = len(comparison.damped.t)
-        peak = int(np.argmax(comparison.damped.power)) if n else 0
+        runs = runs_of(comparison)
+        show_legend_items([self.spectrum_figure], runs)
+        for name, pane in self.map_panes.items():
+            pane.visible = name in runs
+        reference = reference_run(comparison)
+        n = len(reference.t)
+        peak = int(np.argmax(reference.power)) if n else 0
         self.time_slider.param.update(start=0, end=max(1, n - 1), value=peak, disabled=n < 2)
         self.compute_button.disabled = n < 2
         self.status.object = "Ready: press “Compute spectrum”." if n >= 2 else "The run saved too few states."
@@ -307,7 +309,7 @@ class SpectrumPanel(Viewer):
         """Recompute and draw dP/dOmega for the selected saved state (cheap: one state per run)."""
         if self._comparison is None:
             return
-        index = int(np.clip(self.time_slider.value, 0, len(self._comparison.damped.t) - 1))
+        index = int(np.clip(self.time_slider.value, 0, len(reference_run(self._comparison).t) - 1))
         try:
             data = compute_maps(self._comparison, index, self.frame.value)
         except ScenarioError as exc:
@@ -343,7 +345,7 @@ class SpectrumPanel(Viewer):
         job = self._job = Job(lambda _progress, _cancel: compute_spectra(comparison, method, omega_range, direction),
                               name="radorbit-lab-spectrum", failure="the spectrum failed").start()
         self.compute_button.disabled = True
-        self.status.object = "Computing the spectrum of both runs…"
+        self.status.object = "Computing the spectrum of every run…"
 
         def finished():
             if self._job is not job:
@@ -372,4 +374,4 @@ class SpectrumPanel(Viewer):
             self.spectrum_sources[name].data = dict(x=ev / scale, y=shown)
         self.spectrum_figure.xaxis.axis_label = f"photon energy ({label})"
         self.spectrum_figure.yaxis.axis_label = payload["ylabel"]
-        self.status.object = f"Spectrum of both runs; {payload['note']}."
+        self.status.object = f"Spectrum of every run; {payload['note']}."

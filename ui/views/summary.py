@@ -1,4 +1,4 @@
-"""Run summary: headline numbers of both runs side by side, the engine's warnings, partial-run marks."""
+"""Run summary: headline numbers of every model run side by side, the engine's warnings, partial-run marks."""
 
 import html
 import math
@@ -7,8 +7,8 @@ from panel.viewable import Viewer
 
 from ..format import TIME_UNITS, energy_text, number_text, quantity_text
 from ..theme import html_pane
-
-RUNS = ("damped", "undamped")
+from .palette import MODEL_LABELS, MODEL_STYLES
+from .runs import runs_of
 
 SUMMARY_CSS = """
 table.ro-summary { border-collapse: collapse; font-size: 13.5px; min-width: 560px; }
@@ -35,41 +35,66 @@ ROWS = (
     ("peak_power", "peak Liénard power", lambda v: f"{number_text(v, 5)} W"),
     ("peak_chi", "peak χ", lambda v: number_text(v, 5)),
     ("energy_balance_residual", "energy-balance residual", lambda v: f"{v:.2e}" if math.isfinite(v) else "–"),
+    ("photons", "photons recorded (real photons)", lambda v: v),
     ("steps", "steps", lambda v: f"{int(v):,}"),
     ("wall_time", "wall time", lambda v: quantity_text(v, TIME_UNITS, 3)),
 )
 
+#: rows only some runs have (the others show a dash); shown only when a run has them
+OPTIONAL_ROWS = ("photons",)
+
+
+def photon_count(result):
+    """'n recorded (N real)' for a run with recorded photons, '–' for a model that records none."""
+    photons = getattr(result, "photons", None)
+    if photons is None:
+        return "–"
+    text = f"{len(photons):,} ({float(photons.weight.sum()):.4g} real)"
+    if photons.dropped:
+        text += f"; {photons.dropped:,} more not kept"
+    return text
+
 
 def summary_html(comparison, stale=False):
-    """HTML table of the headline numbers of both runs (ids ``sum-<key>-<run>`` for tests)."""
-    if comparison is None:
+    """HTML table of the headline numbers of every model run (ids ``sum-<key>-<model>`` for tests)."""
+    results = runs_of(comparison)
+    if not results:
         return '<div class="ro-note" id="summary-empty">No results yet: press Run.</div>'
-    results = {name: getattr(comparison, name) for name in RUNS}
     head = ["<th>quantity</th>"]
     for name, r in results.items():
         badge = ('<span class="ro-badge complete">complete</span>' if r.complete else
                  f'<span class="ro-badge partial" id="partial-{name}">partial: '
                  f'{html.escape(str(getattr(r, "status", r.meta.get("stop_reason", "stopped"))))}</span>')
-        swatch = ("border-top:3px solid #c2410c" if name == "damped" else "border-top:3px dashed #1d5f8a")
-        model = r.meta.get("radiation_reaction", "")
-        label = f"{name} ({model})" if model and name == "damped" else name
-        head.append(f'<th><span class="ro-swatch" style="{swatch}"></span>{html.escape(label)}{badge}</th>')
+        style = MODEL_STYLES[name]
+        dashed = style["line_dash"] != "solid"
+        swatch = f"border-top:3px {'dashed' if dashed else 'solid'} {style['color']}"
+        head.append(f'<th title="radiation_reaction = {html.escape(name)}"><span class="ro-swatch" '
+                    f'style="{swatch}"></span>{html.escape(MODEL_LABELS[name])}{badge}</th>')
     summaries = {name: (r.summary() if len(r.t) else None) for name, r in results.items()}
+    if any(getattr(r, "photons", None) is not None for r in results.values()):
+        for name, r in results.items():
+            if summaries[name] is not None:
+                summaries[name] = {**summaries[name], "photons": photon_count(r)}
     body = []
     for key, label, fmt in ROWS:
+        if key in OPTIONAL_ROWS and not any(s is not None and key in s for s in summaries.values()):
+            continue
         cells = []
-        for name in RUNS:
+        for name in results:
             s = summaries[name]
             if s is None:
                 text = "no saved states"
             elif key in s:
                 text = fmt(s[key])
+            elif key in OPTIONAL_ROWS:
+                text = "–"
             else:  # a beam run's summary has other keys: its numbers are in the Beam tab
                 text = "see the Beam tab"
             cells.append(f'<td id="sum-{key}-{name}">{html.escape(text)}</td>')
         body.append(f"<tr><th>{html.escape(label)}</th>{''.join(cells)}</tr>")
     note = ('<div class="ro-note" style="font-size:12px;color:#52606d;margin-top:4px">'
-            "The undamped run feels no reaction force; its radiated energy is what it would radiate.</div>")
+            "The run with no reaction force keeps its energy; its radiated energy is what it would radiate."
+            "</div>" if "none" in results else "")
     stale_note = ('<div class="ro-stale" id="results-stale">The scenario has been edited since this run; '
                   "press Run to update.</div>" if stale else "")
     table = (f'<table class="ro-summary" id="summary-table"><thead><tr>{"".join(head)}</tr></thead>'
@@ -84,7 +109,7 @@ def warnings_html(results):
         for w in r.warnings or []:
             when = w.get("time")
             at = f", t = {quantity_text(when, TIME_UNITS, 4)}" if isinstance(when, (int, float)) else ""
-            items.append(f"<li><b>{html.escape(name)}</b> ({html.escape(str(w.get('kind', 'warning')))}{at}): "
+            items.append(f"<li><b>{html.escape(MODEL_LABELS.get(name, name))}</b> ({html.escape(str(w.get('kind', 'warning')))}{at}): "
                          f"{html.escape(str(w.get('message', '')))}</li>")
     if not items:
         return ""

@@ -359,3 +359,50 @@ def test_a_page_load_never_shows_another_visitors_edits(browser, lab_url):
     finally:
         for c in contexts:
             c.close()
+
+
+def test_ticked_models_run_side_by_side_and_photons_are_shown(page, lab_url, artifacts):
+    errors = []
+    open_lab(page, lab_url, errors)
+    open_bundled(page, LASER)
+    ticks = {model: page.locator(f".model-{model} input") for model in tracker.engine.MODEL_ORDER}
+    expect(ticks["none"]).to_be_checked()
+    expect(ticks["landau-lifshitz"]).to_be_checked()
+    expect(ticks["quantum-stochastic"]).not_to_be_checked()
+    click_tick(page, "quantum-stochastic")
+    click_tick(page, "landau-lifshitz-quantum")
+    expect(page.locator("#scenario-ok")).to_contain_text("4 models")
+    run_and_wait(page)
+
+    expected = tracker.compare(edited(LASER, lambda d: None), models=list(tracker.engine.MODEL_ORDER))
+    for model in tracker.engine.MODEL_ORDER:
+        want = expected[model].summary()["energy_radiated"]
+        expect(page.locator(f"#sum-energy_radiated-{model}")).to_have_text(energy_text(want))
+    # the stochastic run's photons, as many as the engine records with the same seed
+    page.locator(".bk-tab", has_text="Photons").click()
+    count = len(expected["quantum-stochastic"].photons)
+    expect(page.locator("#photon-count-quantum-stochastic")).to_contain_text(f"{count:,} (")
+    page.wait_for_function(
+        "() => { for (const d of Bokeh.documents) for (const m of d.all_models)"
+        " if (m.data && m.data.low && m.data.low.length > 0) return true; return false; }")
+    paint(page)
+    page.screenshot(path=str(artifacts / "lab-photons.png"), full_page=True)
+    # unticking every model leaves nothing to run, and says so
+    for model in tracker.engine.MODEL_ORDER:
+        if ticks[model].is_checked():
+            click_tick(page, model)
+    expect(page.locator("#no-model")).to_be_visible()
+    expect(page.locator(".run-button button")).to_be_disabled()
+    assert errors == []
+
+
+#: the words of each model's tick (ui.views.palette.MODEL_LABELS)
+MODEL_WORDS = {"none": "no reaction force", "landau-lifshitz": "Landau–Lifshitz",
+               "landau-lifshitz-quantum": "quantum-corrected LL", "quantum-stochastic": "stochastic emission"}
+
+
+def click_tick(page, model):
+    """A mouse click on the words of a model's tick."""
+    words = page.locator(f".model-{model}").get_by_text(MODEL_WORDS[model], exact=True)
+    box = words.bounding_box()
+    page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)

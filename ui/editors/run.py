@@ -25,8 +25,8 @@ def run_row(cache, name, default):
                      default=default, choices=e.choices)
 
 
-def plan_html(plan, error=""):
-    """Plan readout: dt, steps, saved states, memory, fastest time scale, resolution."""
+def plan_html(plan, error="", runs=2):
+    """Plan readout: dt, steps, saved states, memory (per run, ``runs`` runs), fastest time scale, resolution."""
     if plan is None:
         return ('<div class="ro-plan" id="plan-readout"><i>No plan: the scenario is not valid yet'
                 f'{" (see the message above)" if error else ""}.</i></div>')
@@ -38,7 +38,7 @@ def plan_html(plan, error=""):
         ("steps", f'<span id="plan-steps">{plan.steps:,}</span>'),
         ("saved states", f"{plan.saved_states:,} (every {plan.save_every})"),
         ("memory estimate", f'<span id="plan-memory"{memory_style}>{human_bytes(plan.memory_bytes)}</span> '
-                            "per run, two runs"),
+                            f"per run, {runs} run{'s' if runs != 1 else ''} (one per ticked model)"),
         ("fastest time scale", period),
         ("resolution", f"{number_text(plan.steps_per_period, 4)} steps per period" if plan.steps_per_period else "–"),
     ]
@@ -67,18 +67,18 @@ class RunEditor(Viewer):
         self.cache = RowCache(state)
         self.rows = []
         self._form = pn.Column(sizing_mode="stretch_width", margin=0)
-        self._plan = html_pane(plan_html(state.plan, state.error), stylesheets=[PLAN_CSS],
+        self._plan = html_pane(plan_html(state.plan, state.error, len(state.models)), stylesheets=[PLAN_CSS],
                                   sizing_mode="stretch_width", margin=(6, 0))
         self._layout = pn.Column(self._form, self._plan, sizing_mode="stretch_width", margin=0)
         state.param.watch(self._rebuild, "layout_version")
-        state.param.watch(self._show_plan, ["plan", "error"])
+        state.param.watch(self._show_plan, ["plan", "error", "models"])
         self._rebuild()
 
     def __panel__(self):
         return self._layout
 
     def _show_plan(self, *_):
-        self._plan.object = plan_html(self.state.plan, self.state.error)
+        self._plan.object = plan_html(self.state.plan, self.state.error, len(self.state.models))
 
     def _rebuild(self, *_):
         state = self.state

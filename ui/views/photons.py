@@ -31,6 +31,8 @@ from .runs import runs_of
 ENERGY_BINS = 48
 #: polar-angle bins of the angular distribution
 ANGLE_BINS = 48
+#: where an error bar that reaches zero stops on the log axes, as a fraction of the value (display only)
+BAR_FLOOR = 0.1
 ANGLE_UNITS = (("rad", 1.0), ("mrad", 1e-3), ("µrad", 1e-6), ("nrad", 1e-9))
 #: colour of the classical expectation (not a model run: it is computed from one run's orbit)
 CLASSICAL_STYLE = dict(color="#3e4c59", line_width=1.6, line_dash="dotdash")
@@ -44,8 +46,8 @@ def _points(centers, density, error, scale_x, scale_y):
     keep = density > 0
     y = density[keep] / scale_y
     e = error[keep] / scale_y
-    # a bar reaching zero or below cannot be drawn on a log axis: it stops at a 1000th of the value
-    low = np.where(y - e > 0, y - e, y * 1e-3)
+    # a bar reaching zero or below cannot be drawn on a log axis: it stops at a tenth of the value
+    low = np.where(y - e > 0, y - e, y * BAR_FLOOR)
     return {"x": centers[keep] / scale_x, "y": y, "low": low, "high": y + e}
 
 
@@ -170,8 +172,8 @@ class PhotonView(Viewer):
                     fig.line("x", kind, source=self.classical[m], legend_label=CLASSICAL_LABEL, **CLASSICAL_STYLE)
             style_legend(fig)
             self.figures[kind] = fig
-        self.plots = pn.GridBox(*[pn.pane.Bokeh(f, sizing_mode="stretch_width") for f in self.figures.values()],
-                                ncols=2, sizing_mode="stretch_width", visible=False)
+        self.plots = pn.Column(*[pn.pane.Bokeh(f, sizing_mode="stretch_width") for f in self.figures.values()],
+                               sizing_mode="stretch_width", visible=False, margin=0)
         self.layout = pn.Column(self.message, self.totals, self.plots, sizing_mode="stretch_width", margin=0)
         state.param.watch(self._show, "prepared")
         self._show()
@@ -195,8 +197,9 @@ class PhotonView(Viewer):
             apply_to_models(clear)
             return
         notes = ["Each point is a bin of recorded photons (real photons: weights applied) with its Poisson "
-                 "standard error; the dot-dashed line is the classical synchrotron-function spectrum of the "
-                 "same orbit, which the quantum spectrum approaches as χ → 0.", *data["notes"]]
+                 "standard error (a bar that reaches zero stops at a tenth of the value); the dot-dashed line "
+                 "is the classical synchrotron-function spectrum of the same orbit, which the quantum "
+                 "spectrum approaches as χ → 0.", *data["notes"]]
         self.message.object = "".join(f'<div class="ro-note">{html.escape(n)}</div>' for n in notes)
         self.totals.object = totals_html(data)
         self.plots.visible = bool(data["number"])

@@ -145,3 +145,39 @@ def test_histograms_carry_poisson_errors_and_the_classical_spectrum_shares_the_a
     assert np.sum(a.density * solid) == pytest.approx(len(r.photons), rel=1e-6)
     dn, de = classical_photon_spectrum(r, h.centers)
     assert np.all(dn > 0) and np.allclose(de, dn * h.centers)
+
+
+@pytest.mark.parametrize("chi0", [1e-3, 1e-2])
+def test_as_chi_goes_to_zero_the_beam_mean_follows_the_classical_coth_law(chi0):
+    # Classical limit: Landau-Lifshitz cooling across a uniform B, gamma(t) = coth(t/tau_B + arcoth gamma0),
+    # tau_B = 1/(tau0 (qB/m)^2) (Landau & Lifshitz vol. 2 sec. 76 problem, from memory). The quantum mean
+    # loss is lower by the Gaunt factor g(chi) = 1 - (55 sqrt(3)/16) chi + O(chi^2) (Baier-Katkov; BLP
+    # QED sec. 90, from memory), so the beam mean must sit within that fraction of the classical loss
+    # (plus 4 standard errors) and never above it: a gap that closes linearly as chi -> 0.
+    # gyrations per e-fold of the loss, 1/(2 pi tau0 omega_B gamma^2), scale as 1/(chi gamma): at gamma = 1000
+    # and chi = 1e-3 a 30 % loss takes ~14 gyrations, resolved with 200 steps each
+    gamma0, count = 1.0e3, 1000
+    b_field = chi0 * k.E_schwinger / (gamma0 * k.c)
+    tau0 = k.e**2 / (6 * math.pi * k.epsilon_0 * k.m_e * k.c**3)
+    tau_b = 1.0 / (tau0 * (k.e * b_field / k.m_e) ** 2)
+    duration = tau_b * (1.0 / (0.7 * gamma0) - 1.0 / gamma0)   # the classical law loses 30 %
+    scenario = Scenario.from_dict({
+        "run": {"duration": duration, "steps_per_period": 200, "radiation_reaction": "quantum-stochastic",
+                "seed": 3, "save": "statistics", "save_every": 1000},
+        "beam": {"species": "electron", "count": count, "gamma": gamma0, "direction": [1, 0, 0]},
+        "field": [{"type": "uniform", "B": [0, 0, b_field]}],
+    })
+    beam = track(scenario)
+    t_end = beam.stats["t"][-1]
+    classical_loss = gamma0 - 1.0 / np.tanh(t_end / tau_b + np.arctanh(1.0 / gamma0))
+    mean = beam.stats["mean_gamma"][-1]
+    error = beam.stats["rms_gamma_spread"][-1] * mean / math.sqrt(count)
+    quantum_gap = 55.0 * math.sqrt(3.0) / 16.0 * chi0 * classical_loss   # 1 - g(chi0), largest at the start
+    loss = gamma0 - mean
+    assert classical_loss == pytest.approx(0.3 * gamma0, rel=0.02)
+    assert beam.meta["complete"] and beam.meta["steps"] >= 100 * count   # resolved, not a few giant steps
+    assert loss <= classical_loss + 4.0 * error
+    assert loss >= classical_loss - quantum_gap - 4.0 * error
+    if chi0 >= 1e-2:
+        # and the quantum deficit is really there, beyond the noise, where it is large enough to see
+        assert loss < classical_loss - 4.0 * error

@@ -327,7 +327,7 @@ def test_cli_missing_file_exits_2(tmp_path, capsys):
 
 
 # ---------------------------------------------------------------------- lab panel (headless)
-def test_spectrum_panel_draws_maps_and_spectra_for_both_runs():
+def test_spectrum_panel_draws_maps_and_spectra_for_every_run():
     from ui.views.spectrum import SpectrumPanel
 
     pair = compare(Scenario.from_dict({
@@ -337,15 +337,15 @@ def test_spectrum_panel_draws_maps_and_spectra_for_both_runs():
     }))
     panel = SpectrumPanel()
     panel.update(pair)
-    image = panel.map_sources["damped"].data["image"][0]
+    image = panel.map_sources["landau-lifshitz"].data["image"][0]
     assert image.shape == (64, 73) and np.all(np.isfinite(image)) and image.max() > 0
     for method in ("auto", "synchrotron", "nufft"):
         panel.method.value = method
         panel.compute_spectrum(wait=True)
-        assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+        assert panel.status.object.startswith("Spectrum of every run"), panel.status.object
         if method == "auto":
             assert "method chosen: synchrotron formula" in panel.status.object   # a closed orbit
-        for name in ("damped", "undamped"):
+        for name in ("landau-lifshitz", "none"):   # the scenario's model and the run without reaction force
             y = np.asarray(panel.spectrum_sources[name].data["y"], dtype=float)
             assert len(y) > 100 and np.nanmax(y) > 0
 
@@ -405,9 +405,9 @@ def test_spectrum_panel_takes_a_photon_range_and_a_direction():
     panel.range_low.value, panel.range_high.value = "1 meV", "10 meV"
     panel.direction.value = "1, 0.05, 0"
     panel.compute_spectrum(wait=True)
-    assert panel.status.object.startswith("Spectrum of both runs"), panel.status.object
+    assert panel.status.object.startswith("Spectrum of every run"), panel.status.object
     assert "+0.9988, +0.0499" in panel.status.object
-    x = np.asarray(panel.spectrum_sources["damped"].data["x"], dtype=float)
+    x = np.asarray(panel.spectrum_sources["landau-lifshitz"].data["x"], dtype=float)
     assert len(x) == 800 and x.min() == pytest.approx(1e-3, rel=1e-9)   # eV axis
     panel.range_high.value = ""
     panel.compute_spectrum(wait=True)

@@ -1,6 +1,7 @@
 """``radorbit run`` and ``radorbit check`` on a ``[beam]`` scenario (called from ``tracker.cli``).
 
-``run_beam(args, scenario)``: tracks the beam (or damped and undamped with ``--compare``),
+``run_beam(args, scenario)``: tracks the beam (or damped and undamped with ``--compare``, or the
+models of ``--models``),
 prints the beam summary and the warnings counted over particles, writes ``-o`` (BeamResult
 HDF5, or the statistics table as CSV) and ``--snapshots`` (openPMD 1.1.0 HDF5 of the
 ``run.snapshots`` dumps, loadable as a ``[beam] file``).
@@ -78,8 +79,7 @@ def _write_snapshots(result, path):
 
 def run_beam(args, scenario):
     """Track a beam scenario from the command line; returns the exit status."""
-    from . import compare, track
-    from .cli import EXIT_CANCELLED, _InterruptToCancel, _progress_bar, _write, print_table
+    from .cli import EXIT_CANCELLED, _InterruptToCancel, _progress_bar, _write, print_photons, print_table, run_models
 
     if getattr(args, "snapshots", None) and not scenario.run.snapshots:
         raise ScenarioError("--snapshots", "the scenario asks for no snapshots: add run.snapshots, e.g. "
@@ -89,11 +89,7 @@ def run_beam(args, scenario):
     bar, update = _progress_bar(label)
     try:
         with _InterruptToCancel() as cancel:
-            if args.compare:
-                pair = compare(scenario, progress=update, cancel=cancel)
-                results = {"damped": pair.damped, "undamped": pair.undamped}
-            else:
-                results = {scenario.run.radiation_reaction: track(scenario, progress=update, cancel=cancel)}
+            results = run_models(scenario, args, update, cancel)
     finally:
         bar.close()
     first = next(iter(results.values()))
@@ -106,6 +102,7 @@ def run_beam(args, scenario):
             count = w.get("particles")
             who = "count unknown" if count is None else f"{count:,} particles"
             print(f"warning ({name}, {w['kind']}, {who}): {w['message']}")
+    print_photons(results)
     ok = True
     if args.output:
         for name, path in _paths(args.output, list(results)).items():
@@ -148,7 +145,7 @@ def memory_text(scenario, plan):
     return (f"{human_bytes(plan.memory_bytes)} with beam.count = {scenario.particle_count:,} and run.save = "
             f"{save!r} ({what}{snaps}; particle state {human_bytes(plan.state_bytes)}); peak "
             f"{human_bytes(plan.peak_bytes)} of at most {human_bytes(memory_limit_bytes())} "
-            f"({MEMORY_FRACTION:.0%} of this machine's memory); --compare runs two at once")
+            f"({MEMORY_FRACTION:.0%} of this machine's memory); --compare runs two at once, --models one per model")
 
 
 def check_beam(args, scenario):

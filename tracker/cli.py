@@ -4,6 +4,7 @@ import argparse
 import sys
 from pathlib import Path
 
+from . import constants
 from .errors import ScenarioError
 from .stops import StopReason
 
@@ -264,11 +265,7 @@ def cmd_run(args):
     bar, update = _progress_bar(f"{Path(args.scenario).stem} ({plan.steps:,} steps)")
     try:
         with _InterruptToCancel() as cancel:
-            if args.compare:
-                pair = compare(scenario, progress=update, cancel=cancel)
-                results = {"damped": pair.damped, "undamped": pair.undamped}
-            else:
-                results = {scenario.run.radiation_reaction: track(scenario, progress=update, cancel=cancel)}
+            results = run_models(scenario, args, update, cancel)
     finally:
         bar.close()
     from .errors import one_line
@@ -278,6 +275,7 @@ def cmd_run(args):
     for name, r in results.items():
         for w in r.warnings:
             print(f"warning ({name}, {w['kind']}, t = {w['time']:.4g} s): {w['message']}")
+    print_photons(results)
     ok = True
     interrupted = False
     if args.output:
@@ -297,6 +295,58 @@ def cmd_run(args):
               file=sys.stderr)
         return EXIT_NOT_COMPLETE
     return 0
+
+
+def requested_models(args):
+    """The models of ``--models a,b,...`` in ``MODEL_ORDER`` (None when not given).
+
+    Raises
+    ------
+    ScenarioError
+        For an empty list or an unknown name (the message names ``--models`` and the value).
+    """
+    from .engine import MODEL_ORDER
+
+    text = getattr(args, "models", None)
+    if text is None:
+        return None
+    names = [n.strip() for n in str(text).split(",") if n.strip()]
+    unknown = [n for n in names if n not in MODEL_ORDER]
+    if unknown or not names:
+        raise ScenarioError("--models", f"must be a comma-separated list of {', '.join(MODEL_ORDER)}, "
+                                        f"not {text!r}.")
+    return [m for m in MODEL_ORDER if m in names]
+
+
+def run_models(scenario, args, progress=None, cancel=None):
+    """What ``radorbit run`` tracks, as {column name: result}: every model of ``--models``
+    (named by model), the damped/undamped pair of ``--compare``, or the scenario's own model."""
+    from . import compare, track
+
+    models = requested_models(args)
+    if models is not None:
+        if getattr(args, "compare", False):
+            raise ScenarioError("--models", "give either --compare (the damped/undamped pair) or --models, not both.")
+        return dict(compare(scenario, models=models, progress=progress, cancel=cancel).results)
+    if getattr(args, "compare", False):
+        pair = compare(scenario, progress=progress, cancel=cancel)
+        return {"damped": pair.damped, "undamped": pair.undamped}
+    return {scenario.run.radiation_reaction: track(scenario, progress=progress, cancel=cancel)}
+
+
+def print_photons(results, out=None):
+    """One line per run that recorded photons: how many, their energy, and any not kept."""
+    out = out or sys.stdout
+    for name, r in results.items():
+        photons = getattr(r, "photons", None)
+        if photons is None:
+            continue
+        energy = photons.total_energy()
+        line = (f"photons ({name}): {len(photons):,} recorded at or above {photons.min_energy:.4g} J, "
+                f"{energy:.6g} J ({energy / constants.e:.6g} eV) in total")
+        if photons.dropped:
+            line += f"; {photons.dropped:,} more not kept (memory cap; raise photon_min_energy)"
+        print(line, file=out)
 
 
 def _with_overrides(scenario, args):
@@ -392,6 +442,9 @@ def build_parser():
     run.add_argument("scenario", help="scenario TOML file")
     run.add_argument("-o", "--output", help="write the result (.h5, or .csv)")
     run.add_argument("--compare", action="store_true", help="run damped and undamped side by side")
+    run.add_argument("--models", metavar="A,B,...",
+                     help="run these radiation-reaction models side by side (any of "
+                          f"{', '.join(MODELS)}); one output file per model")
     run.add_argument("--snapshots", metavar="OUT.h5",
                      help="beam: write the run.snapshots dumps as openPMD (loads back as a [beam] file)")
     add_run_overrides(run)

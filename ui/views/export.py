@@ -38,16 +38,16 @@ class ExportView(Viewer):
                 button = pn.widgets.FileDownload(
                     callback=lambda n=name, s=suffix: self._file(n, s), filename=f"result-{name}.{suffix}",
                     label=f"{MODEL_LABELS[name]} · {label}", width=210, margin=(4, 6), disabled=True,
-                    visible=False, css_classes=[f"download-{name}-{suffix}"])
+                    css_classes=[f"download-{name}-{suffix}"])
                 self.buttons[(name, suffix)] = button
         self._note = html_pane(
             '<div class="ro-note">Full saved states in SI with units (HDF5 also holds the scenario, the '
             "run metadata and any recorded photons). Plots: use the save tool in each plot's toolbar for a "
             "PNG.</div>",
             sizing_mode="stretch_width", margin=(0, 8))
-        self._layout = pn.Column(pn.Row(*self.buttons.values(), margin=0, styles={"flex-wrap": "wrap"},
-                                        sizing_mode="stretch_width"), self._note,
-                                 sizing_mode="stretch_width", margin=0)
+        # only the buttons of the models run are in the row: hidden ones would still widen it
+        self._row = pn.FlexBox(flex_wrap="wrap", margin=0, sizing_mode="stretch_width")
+        self._layout = pn.Column(self._row, self._note, sizing_mode="stretch_width", margin=0)
         state.param.watch(self._refresh, "comparison")
         self._refresh()
 
@@ -60,9 +60,9 @@ class ExportView(Viewer):
         for (name, suffix), button in self.buttons.items():
             run = runs.get(name)
             button.disabled = run is None
-            button.visible = run is not None
             partial = run is not None and not run.complete
             button.filename = f"{stem}-{name}{'-partial' if partial else ''}.{suffix}"
+        self._row.objects = [button for (name, _suffix), button in self.buttons.items() if name in runs]
 
     def _file(self, name, suffix):
         run = runs_of(self.state.comparison).get(name)

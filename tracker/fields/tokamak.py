@@ -19,15 +19,21 @@ def tokamak_field(p, i, data, x, y, z, t):
     safety factor is q R0/R ~ q. Loop voltage gives E_phi = V/(2 pi R).
     p = [R0, B0, q, V_loop].
     """
-    rmaj = math.sqrt(x * x + y * y)
-    inv_r = 1.0 / rmaj
-    cphi = x * inv_r
-    sphi = y * inv_r
-    bphi = p[i, 1] * p[i, 0] * inv_r
-    pol = p[i, 1] / (p[i, 2] * rmaj)
+    # in units of R0: work that depends on the position alone would be hoisted out of the kernels'
+    # loop over field rows and run on every step of every scenario (see DEVELOPERS.md, the hot loop)
+    r0 = p[i, 0]
+    inv_r0 = 1.0 / r0
+    xi = x * inv_r0
+    eta = y * inv_r0
+    rho = math.sqrt(xi * xi + eta * eta)   # R/R0
+    inv_rho = 1.0 / rho
+    cphi = xi * inv_rho
+    sphi = eta * inv_rho
+    bphi = p[i, 1] * inv_rho
+    pol = p[i, 1] / (p[i, 2] * r0 * rho)   # B0/(q R)
     b_rmaj = -pol * z
-    bz = pol * (rmaj - p[i, 0])
-    ephi = p[i, 3] / (2.0 * math.pi * rmaj)
+    bz = pol * (r0 * rho - r0)
+    ephi = p[i, 3] * inv_r0 * inv_rho * (0.5 / math.pi)
     return (-ephi * sphi, ephi * cphi, 0.0,
             b_rmaj * cphi - bphi * sphi, b_rmaj * sphi + bphi * cphi, bz)
 

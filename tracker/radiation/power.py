@@ -31,6 +31,22 @@ def transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz):
 
 
 @njit(**LEAF)
+def momentum_force_squared(gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz):
+    """gamma^2 (|E + c beta x B|^2 - (E.beta)^2) = |gamma E + c u x B|^2 - (E.u)^2 in (V/m)^2, and E.u in V/m.
+
+    ``transverse_force_squared`` times gamma^2, from u = gamma beta without dividing by gamma
+    (the step's kicks and diagnostics need it before 1/gamma is known); clipped at 0.
+    """
+    c = k.c
+    fx = gamma * ex + c * (uy * fbz - uz * fby)
+    fy = gamma * ey + c * (uz * fbx - ux * fbz)
+    fz = gamma * ez + c * (ux * fby - uy * fbx)
+    eu = ex * ux + ey * uy + ez * uz
+    g2f2 = fx * fx + fy * fy + fz * fz - eu * eu
+    return (g2f2 if g2f2 > 0.0 else 0.0), eu
+
+
+@njit(**LEAF)
 def lienard_power(power_scale, gamma, f2):
     """Lienard power in W: ``power_scale`` = q^2 tau0/m (W m^2/V^2), ``f2`` from transverse_force_squared."""
     return power_scale * gamma * gamma * f2

@@ -26,7 +26,7 @@ from numba import njit
 
 from .. import constants as k
 from ..config import LEAF
-from .power import chi_parameter, transverse_force_squared
+from .power import momentum_force_squared
 from .quantum import gaunt_factor
 from .stochastic import CHI_STOCHASTIC_MIN
 
@@ -42,31 +42,38 @@ MODELS = {"none": NONE, "landau-lifshitz": LANDAU_LIFSHITZ, "landau-lifshitz-qua
 
 
 @njit(**LEAF)
-def ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz, f2):
+def ll_kick(dt, qm, tau0, gamma, inv_gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz,
+            g2f2):
     """Change of u over dt from the Landau-Lifshitz force (dimensionless).
 
-    dt s; qm = q/m C/kg; tau0 s; (bx, by, bz) = beta; E V/m, B T at the particle;
-    dE V/(m s), dB T/s their rates along the orbit; f2 from transverse_force_squared.
+    dt s; qm = q/m C/kg; tau0 s; u = gamma beta, inv_gamma = 1/gamma; E V/m, B T at the
+    particle; dE V/(m s), dB T/s their rates along the orbit; g2f2 = gamma^2 f2 from
+    ``power.momentum_force_squared``. The terms of the module docstring written with u:
+
+        gamma (dE + c beta x dB) = gamma dE + c u x dB
+        (q/m) [... - gamma^2 f2 beta/c] = (q/m) {E x B + [c B x (B x u) + (u.E) E/c - gamma^2 f2 u/c]/gamma}
+
+    so 1/gamma multiplies once, at the end, and its division runs beside the rest.
     """
     c = k.c
     inv_c = 1.0 / k.c  # folded at compile time: multiplications, not divisions, in the loop
-    # term 1: gamma (dE + c beta x dB)
-    t1x = gamma * (dex + c * (by * dbz - bz * dby))
-    t1y = gamma * (dey + c * (bz * dbx - bx * dbz))
-    t1z = gamma * (dez + c * (bx * dby - by * dbx))
-    # term 2: E x B + c B x (B x beta) + (beta.E) E/c ;  B x (B x b) = B (B.b) - b B^2
-    bb = fbx * bx + fby * by + fbz * bz
+    # term 1: gamma dE + c u x dB
+    t1x = gamma * dex + c * (uy * dbz - uz * dby)
+    t1y = gamma * dey + c * (uz * dbx - ux * dbz)
+    t1z = gamma * dez + c * (ux * dby - uy * dbx)
+    # gamma x term 2 without E x B: c B x (B x u) + (u.E) E/c ;  B x (B x u) = B (B.u) - u B^2
+    bu = fbx * ux + fby * uy + fbz * uz
     b2 = fbx * fbx + fby * fby + fbz * fbz
-    eb = (ex * bx + ey * by + ez * bz) * inv_c
-    t2x = (ey * fbz - ez * fby) + c * (fbx * bb - bx * b2) + eb * ex
-    t2y = (ez * fbx - ex * fbz) + c * (fby * bb - by * b2) + eb * ey
-    t2z = (ex * fby - ey * fbx) + c * (fbz * bb - bz * b2) + eb * ez
-    # term 3: -gamma^2 f2 beta/c
-    s3 = gamma * gamma * f2 * inv_c
+    eu = (ex * ux + ey * uy + ez * uz) * inv_c
+    # term 3 times gamma: gamma^2 f2 u/c
+    s3 = g2f2 * inv_c
+    rx = c * (fbx * bu - ux * b2) + eu * ex - s3 * ux
+    ry = c * (fby * bu - uy * b2) + eu * ey - s3 * uy
+    rz = c * (fbz * bu - uz * b2) + eu * ez - s3 * uz
     scale = dt * qm * tau0 * inv_c
-    return (scale * (t1x + qm * (t2x - s3 * bx)),
-            scale * (t1y + qm * (t2y - s3 * by)),
-            scale * (t1z + qm * (t2z - s3 * bz)))
+    return (scale * (t1x + qm * ((ey * fbz - ez * fby) + inv_gamma * rx)),
+            scale * (t1y + qm * ((ez * fbx - ex * fbz) + inv_gamma * ry)),
+            scale * (t1z + qm * ((ex * fby - ey * fbx) + inv_gamma * rz)))
 
 
 @njit(**LEAF)
@@ -86,18 +93,15 @@ def radiation_kick(model, dt, qm, tau0, chi_scale, gamma, ux, uy, uz, ex, ey, ez
         return 0.0, 0.0, 0.0
     if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM and model != QUANTUM_STOCHASTIC:
         return math.nan, math.nan, math.nan
-    inv_g = 1.0 / gamma
-    bx = ux * inv_g
-    by = uy * inv_g
-    bz = uz * inv_g
-    f2 = transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz)
-    kx, ky, kz = ll_kick(dt, qm, tau0, gamma, bx, by, bz, ex, ey, ez, fbx, fby, fbz, dex, dey, dez, dbx, dby, dbz, f2)
+    g2f2, _ = momentum_force_squared(gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz)
+    kx, ky, kz = ll_kick(dt, qm, tau0, gamma, 1.0 / gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
+                         dex, dey, dez, dbx, dby, dbz, g2f2)
     if model == LANDAU_LIFSHITZ_QUANTUM:
-        g = gaunt_factor(chi_parameter(chi_scale, gamma, f2))
+        g = gaunt_factor(chi_scale * math.sqrt(g2f2))   # chi = chi_scale gamma sqrt(f2)
         return g * kx, g * ky, g * kz
     if model == QUANTUM_STOCHASTIC:
         # continuous only below the stochastic threshold; above it photons carry the loss
-        chi = chi_parameter(chi_scale, gamma, f2)
+        chi = chi_scale * math.sqrt(g2f2)
         if chi >= CHI_STOCHASTIC_MIN:
             return 0.0, 0.0, 0.0
         g = gaunt_factor(chi)

@@ -151,6 +151,8 @@ def advance(sp, pl, s, f, omega):
     Returns (new state tuple, saved, t, usx, usy, usz, gamma,
     power, chi, dt): ``saved`` is True when the synchronous state at t (s) was recorded
     (u = gamma beta, power W, chi, dt s) at the position of ``s`` (before this step).
+    chi is computed on recorded steps and, for the models it enters (quantum-corrected and
+    stochastic), on every step; 0 otherwise.
     """
     qm = sp[SP_QM]
     x = s[X]
@@ -171,6 +173,7 @@ def advance(sp, pl, s, f, omega):
     g_old = s[GAMMA_HALF]
     photons_prev = s[PHPREV]
     damping = int(pl[PL_DAMPING])
+    quantum = damping == LANDAU_LIFSHITZ_QUANTUM or damping == QUANTUM_STOCHASTIC   # chi enters the step
     adaptive = pl[PL_ADAPTIVE] != 0.0
     grid = pl[PL_GRID] != 0.0
     t_end = pl[PL_TEND]
@@ -237,7 +240,7 @@ def advance(sp, pl, s, f, omega):
     status = RUNNING
     recorded = False
     usx = usy = usz = gs = power = chi = g_new = 0.0
-    eu = inv_gs = 0.0
+    eu = inv_gs = g2f2 = 0.0
     if damping != NONE:
         kx = kax + kbx
         ky = kay + kby
@@ -261,8 +264,8 @@ def advance(sp, pl, s, f, omega):
         g2f2, eu = momentum_force_squared(gs, usx, usy, usz, ex, ey, ez, bx, by, bz)
         inv_gs = 1.0 / gs
         power = sp[SP_POWER] * g2f2   # Lienard: power_scale gamma^2 f2
-        chi = cscale * math.sqrt(g2f2)   # chi_scale gamma sqrt(f2)
-        if damping == LANDAU_LIFSHITZ_QUANTUM or damping == QUANTUM_STOCHASTIC:
+        if quantum:
+            chi = cscale * math.sqrt(g2f2)   # chi_scale gamma sqrt(f2)
             power *= gaunt_factor(chi)   # the mean power, for the stochastic model too
         if not math.isfinite(power + g_new):
             # NaN or Inf from the fields or the push: stop before saving, keep the last good state
@@ -282,6 +285,8 @@ def advance(sp, pl, s, f, omega):
         w_prev = work_rate
         recorded = save or finished
         if recorded:
+            if not quantum:
+                chi = cscale * math.sqrt(g2f2)   # only saved: one square root less on the other steps
             saved += 1.0
             if grid:
                 next_save = min(saved * pl[PL_INTERVAL], t_end)

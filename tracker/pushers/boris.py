@@ -25,22 +25,23 @@ def boris_push(ux, uy, uz, ex, ey, ez, tx, ty, tz):
     kicks. Half electric kick, magnetic rotation by the angle set by gamma(u-),
     half electric kick: u^{n+1} - u^n = 2e + (u- + u+) x t/gamma(u-).
 
-    The rotation is written without dividing by gamma: with tau = t gamma (the argument),
-    u' = u- + u- x tau/gamma and s = 2 (tau/gamma)/(1 + |tau|^2/gamma^2) give
-    u+ = u- + u' x s = u- + 2 (w x tau)/(gamma^2 + |tau|^2), w = gamma u- + u- x tau,
-    the same update up to round-off. Its one division does not wait for the square root,
-    which shortens the step's chain of dependent operations (the loop is latency bound).
+    The rotation is written so that little waits for the square root (the step loop is
+    latency bound): with tau = t gamma (the argument), a = u- x tau and b = a x tau,
+    u' = u- + a/gamma and s = 2 (tau/gamma)/(1 + |tau|^2/gamma^2) give
+    u+ = u- + u' x s = u- + d (b + gamma a),  d = 2/(gamma^2 + |tau|^2),
+    the same update up to round-off; d and b do not need gamma, so after the square root
+    only (d gamma) a is left.
     """
     umx = ux + ex
     umy = uy + ey
     umz = uz + ez
-    g2 = 1.0 + umx * umx + umy * umy + umz * umz
-    d = 2.0 / (g2 + tx * tx + ty * ty + tz * tz)
-    g = math.sqrt(g2)
-    # w = gamma u- + u- x tau
-    wx = g * umx + (umy * tz - umz * ty)
-    wy = g * umy + (umz * tx - umx * tz)
-    wz = g * umz + (umx * ty - umy * tx)
-    return (umx + d * (wy * tz - wz * ty) + ex,
-            umy + d * (wz * tx - wx * tz) + ey,
-            umz + d * (wx * ty - wy * tx) + ez)
+    g2 = (umx * umx + umy * umy) + (umz * umz + 1.0)
+    ax = umy * tz - umz * ty
+    ay = umz * tx - umx * tz
+    az = umx * ty - umy * tx
+    bx = ay * tz - az * ty
+    by = az * tx - ax * tz
+    bz = ax * ty - ay * tx
+    d = 2.0 / (g2 + (tx * tx + ty * ty + tz * tz))
+    dg = d * math.sqrt(g2)
+    return ((umx + ex) + d * bx) + dg * ax, ((umy + ey) + d * by) + dg * ay, ((umz + ez) + d * bz) + dg * az

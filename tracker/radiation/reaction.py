@@ -53,27 +53,30 @@ def ll_kick(dt, qm, tau0, gamma, inv_gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fb
         gamma (dE + c beta x dB) = gamma dE + c u x dB
         (q/m) [... - gamma^2 f2 beta/c] = (q/m) {E x B + [c B x (B x u) + (u.E) E/c - gamma^2 f2 u/c]/gamma}
 
-    so 1/gamma multiplies once, at the end, and its division runs beside the rest.
+    and summed so that the term with g2f2, the last input to arrive, is added last
+    (the step is latency bound: this shortens its chain of dependent operations).
     """
     c = k.c
     inv_c = 1.0 / k.c  # folded at compile time: multiplications, not divisions, in the loop
-    # term 1: gamma dE + c u x dB
-    t1x = gamma * dex + c * (uy * dbz - uz * dby)
-    t1y = gamma * dey + c * (uz * dbx - ux * dbz)
-    t1z = gamma * dez + c * (ux * dby - uy * dbx)
-    # gamma x term 2 without E x B: c B x (B x u) + (u.E) E/c ;  B x (B x u) = B (B.u) - u B^2
+    scale = dt * qm * tau0 * inv_c
+    sq = scale * qm
+    h = sq * inv_gamma
+    # without gamma: c u x dB and E x B
+    ax = scale * (c * (uy * dbz - uz * dby)) + sq * (ey * fbz - ez * fby)
+    ay = scale * (c * (uz * dbx - ux * dbz)) + sq * (ez * fbx - ex * fbz)
+    az = scale * (c * (ux * dby - uy * dbx)) + sq * (ex * fby - ey * fbx)
+    # times 1/gamma: c B x (B x u) + (u.E) E/c ;  B x (B x u) = B (B.u) - u B^2
     bu = fbx * ux + fby * uy + fbz * uz
     b2 = fbx * fbx + fby * fby + fbz * fbz
     eu = (ex * ux + ey * uy + ez * uz) * inv_c
-    # term 3 times gamma: gamma^2 f2 u/c
-    s3 = g2f2 * inv_c
-    rx = c * (fbx * bu - ux * b2) + eu * ex - s3 * ux
-    ry = c * (fby * bu - uy * b2) + eu * ey - s3 * uy
-    rz = c * (fbz * bu - uz * b2) + eu * ez - s3 * uz
-    scale = dt * qm * tau0 * inv_c
-    return (scale * (t1x + qm * ((ey * fbz - ez * fby) + inv_gamma * rx)),
-            scale * (t1y + qm * ((ez * fbx - ex * fbz) + inv_gamma * ry)),
-            scale * (t1z + qm * ((ex * fby - ey * fbx) + inv_gamma * rz)))
+    rx = c * (fbx * bu - ux * b2) + eu * ex
+    ry = c * (fby * bu - uy * b2) + eu * ey
+    rz = c * (fbz * bu - uz * b2) + eu * ez
+    # the radiation term: -(q/m) gamma^2 f2 u/(c gamma)
+    hg = (h * inv_c) * g2f2
+    return ((ax + (scale * dex) * gamma + h * rx) - hg * ux,
+            (ay + (scale * dey) * gamma + h * ry) - hg * uy,
+            (az + (scale * dez) * gamma + h * rz) - hg * uz)
 
 
 @njit(**LEAF)

@@ -232,14 +232,23 @@ def advance(sp, pl, s, f, omega):
         px = lx + kax
         py = ly + kay
         pz = lz + kaz
-        kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, math.sqrt(1.0 + px * px + py * py + pz * pz),
+        kbx, kby, kbz = radiation_kick(damping, half, qm, tau0, cscale, math.sqrt((px * px + py * py) + (pz * pz + 1.0)),
                                        px, py, pz, ex, ey, ez, bx, by, bz, dex, dey, dez, dbx, dby, dbz)
     nux = lx + kbx
     nuy = ly + kby
     nuz = lz + kbz
+    # the next position first: the next step needs it and u^{n+1/2}, while nothing of the diagnostics
+    # feeds back; placed after them it would hold back the next step behind their chain of square roots
+    g_new = math.sqrt((nux * nux + nuy * nuy) + (nuz * nuz + 1.0))
+    step_len = k.c * dt / g_new
+    nx = x + nux * step_len
+    ny = y + nuy * step_len
+    nz = z + nuz * step_len
+    # one test catches NaN or Inf in any of them: both propagate through the sum
+    moved = math.isfinite(((nx + ny) + (nz + nux)) + (nuy + nuz))
     status = RUNNING
     recorded = False
-    usx = usy = usz = gs = power = chi = g_new = 0.0
+    usx = usy = usz = gs = power = chi = 0.0
     eu = inv_gs = g2f2 = 0.0
     if damping != NONE:
         kx = kax + kbx
@@ -248,20 +257,19 @@ def advance(sp, pl, s, f, omega):
         if kx * kx + ky * ky + kz * kz > KICK_LIMIT * KICK_LIMIT * (ux * ux + uy * uy + uz * uz):
             status = KICK_TOO_LARGE
     if status == RUNNING:
-        # diagnostics at t^n
-        g_new = math.sqrt(1.0 + nux * nux + nuy * nuy + nuz * nuz)
+        # diagnostics at t^n: u_s = sqrt(gs^2 - 1) s/|s|, s = u^{n-1/2} + u^{n+1/2}
         sx = ux + nux
         sy = uy + nuy
         sz = uz + nuz
         s2 = sx * sx + sy * sy + sz * sz
-        inv_s2 = 1.0 / s2 if s2 > 0.0 else 0.0   # beside g_new's square root, not after it
-        gs = 0.5 * (g_old + g_new)
-        scale = math.sqrt((gs * gs - 1.0) * inv_s2)   # |u| = sqrt(gs^2 - 1) along s
+        inv_s2 = 0.25 / s2 if s2 > 0.0 else 0.0   # beside g_new's square root, not after it
+        a = g_old + g_new
+        gs = 0.5 * a
+        scale = math.sqrt((a - 2.0) * (a + 2.0) * inv_s2)   # gs^2 - 1 = (a - 2)(a + 2)/4
         usx = sx * scale
         usy = sy * scale
         usz = sz * scale
-        # gs^2 f2 from u (no division by gs on the way to the power and chi)
-        g2f2, eu = momentum_force_squared(gs, usx, usy, usz, ex, ey, ez, bx, by, bz)
+        g2f2, eu = momentum_force_squared(gs, scale, sx, sy, sz, ex, ey, ez, bx, by, bz)
         inv_gs = 1.0 / gs
         power = sp[SP_POWER] * g2f2   # Lienard: power_scale gamma^2 f2
         if quantum:
@@ -295,12 +303,7 @@ def advance(sp, pl, s, f, omega):
         if finished:
             status = FINISHED
     if status == RUNNING:
-        step_len = k.c * dt / g_new
-        nx = x + nux * step_len
-        ny = y + nuy * step_len
-        nz = z + nuz * step_len
-        # one test catches NaN or Inf in any of them: both propagate through the sum
-        if not math.isfinite(nx + ny + nz + nux + nuy + nuz):
+        if not moved:
             status = NONFINITE
         else:
             s = (nx, ny, nz, nux, nuy, nuz, target if landing else t + dt, radiated, work, p_prev, w_prev,

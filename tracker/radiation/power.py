@@ -31,18 +31,20 @@ def transverse_force_squared(bx, by, bz, ex, ey, ez, fbx, fby, fbz):
 
 
 @njit(**LEAF)
-def momentum_force_squared(gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz):
-    """gamma^2 (|E + c beta x B|^2 - (E.beta)^2) = |gamma E + c u x B|^2 - (E.u)^2 in (V/m)^2, and E.u in V/m.
+def momentum_force_squared(gamma, scale, sx, sy, sz, ex, ey, ez, fbx, fby, fbz):
+    """gamma^2 (|E + c beta x B|^2 - (E.beta)^2) = |gamma E + c u x B|^2 - (E.u)^2 in (V/m)^2, and E.u in V/m,
+    for the momentum u = gamma beta = scale * s (pass scale = 1 for u itself).
 
-    ``transverse_force_squared`` times gamma^2, from u = gamma beta without dividing by gamma
-    (the step's kicks and diagnostics need it before 1/gamma is known); clipped at 0.
+    ``transverse_force_squared`` times gamma^2, from u without dividing by gamma, clipped at 0.
+    The step calls it where gamma and |u| come out of square roots: what needs only s and
+    the fields is formed before them, so little is left to do after them.
     """
     c = k.c
-    fx = gamma * ex + c * (uy * fbz - uz * fby)
-    fy = gamma * ey + c * (uz * fbx - ux * fbz)
-    fz = gamma * ez + c * (ux * fby - uy * fbx)
-    eu = ex * ux + ey * uy + ez * uz
-    g2f2 = fx * fx + fy * fy + fz * fz - eu * eu
+    eu = scale * (ex * sx + ey * sy + ez * sz)
+    fx = gamma * ex + scale * (c * (sy * fbz - sz * fby))
+    fy = gamma * ey + scale * (c * (sz * fbx - sx * fbz))
+    fz = gamma * ez + scale * (c * (sx * fby - sy * fbx))
+    g2f2 = (fx * fx + fy * fy) + (fz * fz - eu * eu)
     return (g2f2 if g2f2 > 0.0 else 0.0), eu
 
 

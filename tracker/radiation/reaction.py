@@ -53,14 +53,14 @@ def ll_kick(dt, qm, tau0, gamma, inv_gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fb
         gamma (dE + c beta x dB) = gamma dE + c u x dB
         (q/m) [... - gamma^2 f2 beta/c] = (q/m) {E x B + [c B x (B x u) + (u.E) E/c - gamma^2 f2 u/c]/gamma}
 
-    and summed so that the term with g2f2, the last input to arrive, is added last
+    and summed so that gamma^2 f2 and 1/gamma, the last inputs to arrive, enter last
     (the step is latency bound: this shortens its chain of dependent operations).
     """
     c = k.c
     inv_c = 1.0 / k.c  # folded at compile time: multiplications, not divisions, in the loop
     scale = dt * qm * tau0 * inv_c
     sq = scale * qm
-    h = sq * inv_gamma
+    sqc = sq * inv_c
     # without gamma: c u x dB and E x B
     ax = scale * (c * (uy * dbz - uz * dby)) + sq * (ey * fbz - ez * fby)
     ay = scale * (c * (uz * dbx - ux * dbz)) + sq * (ez * fbx - ex * fbz)
@@ -73,10 +73,9 @@ def ll_kick(dt, qm, tau0, gamma, inv_gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fb
     ry = c * (fby * bu - uy * b2) + eu * ey
     rz = c * (fbz * bu - uz * b2) + eu * ez
     # the radiation term: -(q/m) gamma^2 f2 u/(c gamma)
-    hg = (h * inv_c) * g2f2
-    return ((ax + (scale * dex) * gamma + h * rx) - hg * ux,
-            (ay + (scale * dey) * gamma + h * ry) - hg * uy,
-            (az + (scale * dez) * gamma + h * rz) - hg * uz)
+    return (((ax + (scale * dex) * gamma) + inv_gamma * (sq * rx)) - (inv_gamma * (sqc * ux)) * g2f2,
+            ((ay + (scale * dey) * gamma) + inv_gamma * (sq * ry)) - (inv_gamma * (sqc * uy)) * g2f2,
+            ((az + (scale * dez) * gamma) + inv_gamma * (sq * rz)) - (inv_gamma * (sqc * uz)) * g2f2)
 
 
 @njit(**LEAF)
@@ -96,7 +95,7 @@ def radiation_kick(model, dt, qm, tau0, chi_scale, gamma, ux, uy, uz, ex, ey, ez
         return 0.0, 0.0, 0.0
     if model != LANDAU_LIFSHITZ and model != LANDAU_LIFSHITZ_QUANTUM and model != QUANTUM_STOCHASTIC:
         return math.nan, math.nan, math.nan
-    g2f2, _ = momentum_force_squared(gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz)
+    g2f2, _ = momentum_force_squared(gamma, 1.0, ux, uy, uz, ex, ey, ez, fbx, fby, fbz)
     kx, ky, kz = ll_kick(dt, qm, tau0, gamma, 1.0 / gamma, ux, uy, uz, ex, ey, ez, fbx, fby, fbz,
                          dex, dey, dez, dbx, dby, dbz, g2f2)
     if model == LANDAU_LIFSHITZ_QUANTUM:

@@ -260,13 +260,13 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
         b0 = b * BLOCK
         b1 = min(n, b0 + BLOCK)
         scratch = np.zeros((n_slots, b1 - b0, NQ))
-        for _ in range(n_steps):
-            active = 0
-            for j in range(b0, b1):
-                if state[STATUS, j] != RUNNING or state[T, j] >= t_stop:
-                    continue
-                active += 1
-                s = load_state(state, j)
+        # particle by particle, its state held in registers across the chunk (as in run_single): the
+        # step is latency bound, and per-step loads and stores of the state only lengthen it
+        for j in range(b0, b1):
+            s = load_state(state, j)
+            for _ in range(n_steps):
+                if s[STATUS] != RUNNING or s[T] >= t_stop:
+                    break
                 f = analytic_field_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
                 if bulk:
                     g = bulk_fields_at(kinds, params, data, s[X], s[X + 1], s[X + 2], s[T])
@@ -275,9 +275,8 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                 s_new, recorded, t_s, usx, usy, usz, g_s, power, chi, dt_s = advance(spt, plt, s, f, omega)
                 if stochastic and chi >= CHI_STOCHASTIC_MIN and s_new[STATUS] == RUNNING:
                     s_new = emit_photons(qtab, spt, plt, j, s, s_new, g_s, chi, t_s, dt_s, photons, counters, b)
-                store_state(state, j, s_new)
                 if recorded:
-                    slot = int(state[SAVED, j]) - 1 - slot_base
+                    slot = int(s_new[SAVED]) - 1 - slot_base
                     q = scratch[slot, j - b0]
                     q[Q_T] = t_s
                     q[Q_X] = s[X]
@@ -285,7 +284,7 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                     q[Q_Y] = s[X + 1]
                     q[Q_UY] = usy
                     q[Q_G] = g_s
-                    q[Q_RAD] = state[RAD, j]
+                    q[Q_RAD] = s_new[RAD]
                     q[Q_CHI] = chi
                     q[Q_W] = weight[j]
                     for m in range(snap_slots.shape[0]):
@@ -306,11 +305,11 @@ def run_blocks(kinds, params, data, sp, pl, state, weight, n_steps, t_stop, slot
                         out_u[slot, j, 2] = usz
                         out_gamma[slot, j] = g_s
                         out_power[slot, j] = power
-                        out_rad[slot, j] = state[RAD, j]
-                        out_work[slot, j] = state[WORK, j]
+                        out_rad[slot, j] = s_new[RAD]
+                        out_work[slot, j] = s_new[WORK]
                         out_chi[slot, j] = chi
-            if active == 0:
-                break
+                s = s_new
+            store_state(state, j, s)
         block_partials(scratch, n_slots, partials[b])
 
 

@@ -14,8 +14,7 @@ from ui.app import TAB_BEAM, create_app
 from ui.bundled import bundled_path, bundled_scenarios
 from ui.state import LabState
 from ui.views import prepare_drawing
-from ui.views.beam import (HEAT_BINS, MAX_ORBIT_PARTICLES, MAX_ORBIT_POINTS, NO_PARTICLES, BeamView, beam_toml,
-                           prepare_beam)
+from ui.views.beam import HEAT_BINS, MAX_ORBIT_PARTICLES, MAX_ORBIT_POINTS, NO_PARTICLES, BeamView, prepare_beam
 
 BEAM_FILE = "laser_bunch_collision.toml"
 STAT_KEYS = ("t", "mean_gamma", "rms_gamma_spread", "emittance_x", "emittance_y", "radiated_energy",
@@ -54,12 +53,20 @@ def beam_comparison(count=40, n_saved=25, per_particle=True):
     return Comparison(damped=damped, undamped=undamped)
 
 
-def test_bundled_beam_scenario_is_listed_and_loads():
+def test_bundled_beam_scenario_is_listed_and_loads_into_the_beam_form():
+    from ui.editors.particle import ParticleEditor
+
     assert BEAM_FILE in bundled_scenarios()
     state = LabState()
     assert state.load_bundled(BEAM_FILE)
     assert state.scenario is not None and state.scenario.beam is not None, state.error
-    assert beam_toml(state.draft).startswith("[beam]") and "count = 1000" in beam_toml(state.draft)
+    editor = ParticleEditor(state)
+    assert state.particle_section() == "beam" and state.beam_source() == "sampled"
+    rows = {row.key: row for row in editor.rows}
+    assert rows["beam.count"].boxes[0].value == "1000"
+    assert rows["beam.divergence"].boxes[0].value == "0.5 mrad"
+    assert [box.value for box in rows["beam.size"].boxes] == ["2 um", "2 um", "5 um"]
+    assert "1,000 particles" in editor._readout.object
 
 
 def test_beam_view_data_shapes_with_particle_arrays():

@@ -8,6 +8,7 @@ import numpy as np
 from bokeh.document import Document
 
 import tracker
+from tracker import radiation
 from tracker.beam_result import BeamResult
 from tracker.engine import Comparison
 from ui.app import TAB_BEAM, create_app
@@ -131,3 +132,31 @@ def test_summary_of_a_beam_run_points_to_the_beam_tab():
 
     text = summary_html(beam_comparison(per_particle=False))
     assert "see the Beam tab" in text and "summary-table" in text
+
+
+def test_spectrum_tab_of_a_beam_is_the_engines_incoherent_sum_and_refuses_statistics_only():
+    from ui.views.spectrum import SpectrumPanel
+
+    data = tracker.load_scenario(bundled_path(BEAM_FILE)).to_dict()
+    data["beam"]["count"] = 6
+    data["run"]["save"] = "all"
+    scenario = tracker.Scenario.from_dict(data)
+    comparison = tracker.compare(scenario)
+    panel = SpectrumPanel()
+    panel.update(comparison)
+    assert "particle 0 of the beam" in panel.map_status.object
+    panel.method.value = "synchrotron"
+    panel.compute_spectrum(wait=True)
+    assert "incoherent sum over the beam's 6 particles" in panel.status.object, panel.status.object
+    # the drawn curve is tracker.radiation's beam spectrum (sum over particles of w_i S_i) on the same grid
+    x = np.asarray(panel.spectrum_sources["landau-lifshitz"].data["x"], dtype=float)
+    y = np.asarray(panel.spectrum_sources["landau-lifshitz"].data["y"], dtype=float)
+    scale = {"eV": 1.0, "keV": 1e3, "MeV": 1e6}[panel.spectrum_figure.xaxis.axis_label.split("(")[1][:-1]]
+    omega = x * scale * tracker.constants.e / tracker.constants.hbar
+    want = radiation.synchrotron_spectrum(comparison.damped, omega)
+    np.testing.assert_allclose(y[np.isfinite(y)], want[np.isfinite(y)], rtol=1e-6)
+
+    data["run"]["save"] = "statistics"
+    lean = tracker.compare(tracker.Scenario.from_dict(data))
+    panel.update(lean)
+    assert panel.compute_button.disabled and "statistics only" in panel.status.object

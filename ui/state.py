@@ -364,7 +364,9 @@ class LabState(param.Parameterized):
         current = self.particle_section()
         old = dict(self.table(current))
         new = {k: v for k, v in old.items() if k in allowed}
-        aside = {k: v for k, v in self._put_aside.items() if k not in old}
+        # a second table from a file (the Scenario refuses both) joins what was put aside
+        stray = {k: v for k, v in self.table(mode).items() if mode != current}
+        aside = {k: v for k, v in {**self._put_aside, **stray}.items() if k not in old}
         for key in [k for k in aside if k in allowed and k not in new]:
             new[key] = aside.pop(key)
         aside.update({k: v for k, v in old.items() if k not in allowed})
@@ -373,7 +375,7 @@ class LabState(param.Parameterized):
             self._pending_source = source
         # the new table takes the old one's place, so a downloaded file keeps its order
         draft = {(mode if key == current else key): (new if key == current else copy.deepcopy(value))
-                 for key, value in self.draft.items()}
+                 for key, value in self.draft.items() if key != mode}
         draft.setdefault(mode, new)
         self._set_draft(copy.deepcopy(draft), relayout=True)
 

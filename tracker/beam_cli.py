@@ -150,11 +150,11 @@ def memory_text(scenario, plan):
 
 def check_beam(args, scenario):
     """Print the plan and regime of a beam scenario; returns the exit status 0."""
-    from .cli import comparison_rows, print_table, run_count
+    from .cli import comparison_rows, print_table, requested_models, run_count
     from .regime import regime_rows
 
     plan = scenario.plan()
-    side_by_side = comparison_rows(scenario, plan, run_count(args))
+    side_by_side = comparison_rows(scenario, plan, run_count(args), requested_models(args))
     run = scenario.run
     rows = [["title", scenario.title or "-"], *[list(r) for r in beam_rows(scenario)],
             ["fields", ", ".join(f.type for f in scenario.fields) or "none"],

@@ -329,7 +329,7 @@ def run_count(args):
     return 2 if getattr(args, "compare", False) else 1
 
 
-def comparison_rows(scenario, plan, runs):
+def comparison_rows(scenario, plan, runs, models=None):
     """[(label, text)] of the memory of several runs side by side (``plan.comparison_memory``):
     the asked-for number of runs, or with one run what --compare and every model would need.
     Refuses (ScenarioError) when the asked-for runs do not fit, as ``run`` would."""
@@ -337,9 +337,10 @@ def comparison_rows(scenario, plan, runs):
     from .plan import comparison_memory, comparison_text, human_bytes, refuse_if_comparison_too_large
 
     if runs > 1:
-        refuse_if_comparison_too_large(scenario, runs, plan)
-        return [(f"memory, {runs} runs", comparison_text(scenario, plan, runs))]
-    peaks = {n: human_bytes(comparison_memory(scenario, plan, n)[1]) for n in (2, len(MODEL_ORDER))}
+        refuse_if_comparison_too_large(scenario, runs, plan, models)
+        return [(f"memory, {runs} runs", comparison_text(scenario, plan, runs, models))]
+    peaks = {2: human_bytes(comparison_memory(scenario, plan, 2)[1]),
+             len(MODEL_ORDER): human_bytes(comparison_memory(scenario, plan, len(MODEL_ORDER), MODEL_ORDER)[1])}
     return [("memory side by side", f"every run's result is kept: --compare (2 runs) peaks at {peaks[2]}, "
                                     f"--models with all {len(MODEL_ORDER)} at {peaks[len(MODEL_ORDER)]} "
                                     "(check --compare or --models A,B,... for the limit)")]
@@ -397,7 +398,7 @@ def cmd_check(args):
 
         return check_beam(args, scenario)
     plan = scenario.plan()
-    side_by_side = comparison_rows(scenario, plan, run_count(args))
+    side_by_side = comparison_rows(scenario, plan, run_count(args), requested_models(args))
     p = scenario.particle
     rows = [
         ["title", scenario.title or "-"],

@@ -486,7 +486,7 @@ def compare(scenario, models=None, progress=None, cancel=None):
         if unknown or not names:
             raise ScenarioError("models", f"must name models from {', '.join(MODEL_ORDER)}, not {list(models)!r}.")
         names.sort(key=MODEL_ORDER.index)
-        refuse_if_comparison_too_large(scenario, len(names))
+        refuse_if_comparison_too_large(scenario, len(names), models=names)
         runs = [scenario if scenario.run.radiation_reaction == m else scenario.with_run(radiation_reaction=m)
                 for m in names]
     fractions = [0.0] * len(runs)

@@ -23,6 +23,7 @@ import numpy as np
 from .config import BYTES_PER_SAVED_STATE, CHUNK_STEPS, DEFAULT_STEPS_PER_PERIOD
 from .errors import ScenarioError
 from .kernel import NSTAT
+from .photons import BYTES_PER_PHOTON, MAX_PHOTONS
 from .step import STATE_SIZE
 
 #: default adaptive range: dt_min = dt0 / 1000, dt_max = 1000 dt0
@@ -47,6 +48,12 @@ COMPARE_WORKERS = 2
 #: scenario's cached initial particles (x0, u0, weight: 7) and the result's stop code, loss
 #: time and weight (3); the kernel state is freed when the run ends.
 RETAINED_FLOATS_PER_PARTICLE = 7 + 3
+
+#: the most the recorded photons of one quantum-stochastic run take, bytes: the kept table at its
+#: cap (``photons.MAX_PHOTONS`` rows) plus as many rows written into a chunk's buffers before they
+#: are copied out. An upper bound: a run that emits fewer photons uses less.
+PHOTON_TABLE_BYTES = MAX_PHOTONS * BYTES_PER_PHOTON
+PHOTON_PEAK_BYTES = 2 * PHOTON_TABLE_BYTES
 
 
 def physical_memory_bytes():
@@ -120,6 +127,7 @@ class RunPlan:
     state_bytes: int = 0
     peak_bytes: int = 0
     field_bytes: int = 0  #: the fields' bulk data (maps, programs), in state and peak; shared between runs
+    photon_bytes: int = 0  #: at most this much for recorded photons (stochastic model), included in peak
     warnings: tuple = ()  #: validity-style records (kind, message, time s) the run carries
 
 
@@ -200,6 +208,8 @@ def make_plan(scenario):
     field_bytes = scenario.field_data_bytes
     state += field_bytes
     peak += field_bytes
+    photon_bytes = PHOTON_PEAK_BYTES if run.radiation_reaction == "quantum-stochastic" else 0
+    peak += photon_bytes
     memory = kept + state
     if steps > run.max_steps:
         raise ScenarioError(
@@ -209,7 +219,7 @@ def make_plan(scenario):
             "Raise run.max_steps, shorten run.duration or give a coarser resolution.",
         )
     refuse_if_too_large(scenario, saved, memory, peak)
-    sizes = dict(state_bytes=state, peak_bytes=peak, field_bytes=field_bytes)
+    sizes = dict(state_bytes=state, peak_bytes=peak, field_bytes=field_bytes, photon_bytes=photon_bytes)
     if not run.adaptive:
         spp = period / dt if period else None
         return RunPlan(dt, steps, run.save_every, saved, memory, period, source, spp,
@@ -244,25 +254,30 @@ def refuse_if_too_large(scenario, saved, memory, peak):
                                       f"and run.save = {save!r}: {need}. Advice: {advice}.")
 
 
-def comparison_memory(scenario, plan, runs):
+def comparison_memory(scenario, plan, runs, models=None):
     """(held bytes, peak bytes) of ``runs`` runs of ``plan`` side by side (``tracker.compare``).
 
     Every run keeps its result (the plan's kept part plus ``RETAINED_FLOATS_PER_PARTICLE``)
     until the comparison returns; ``COMPARE_WORKERS`` runs go at once, each at the plan's
     peak; the fields' bulk data is loaded once and shared. One run gives the plan's peak.
+    The stochastic model's photons (``PHOTON_PEAK_BYTES`` at most, ``PHOTON_TABLE_BYTES`` kept)
+    count once when ``models`` names it (or, without ``models``, when the scenario's own model is it).
     """
     runs = max(1, int(runs))
     at_once = min(runs, COMPARE_WORKERS)
     field = plan.field_bytes
+    photons = plan.photon_bytes
+    stochastic = (photons > 0) if models is None else "quantum-stochastic" in models
     finished = (plan.memory_bytes - plan.state_bytes) + RETAINED_FLOATS_PER_PARTICLE * 8 * scenario.particle_count
-    held = field + runs * finished
-    peak = field + (runs - at_once) * finished + at_once * (plan.peak_bytes - field)
+    held = field + runs * finished + (PHOTON_TABLE_BYTES if stochastic else 0)
+    peak = (field + (runs - at_once) * finished + at_once * (plan.peak_bytes - field - photons)
+            + (PHOTON_PEAK_BYTES if stochastic else 0))
     return held, peak
 
 
-def comparison_text(scenario, plan, runs):
+def comparison_text(scenario, plan, runs, models=None):
     """One line for people: what ``runs`` runs side by side hold and need at their peak, and the limit."""
-    held, peak = comparison_memory(scenario, plan, runs)
+    held, peak = comparison_memory(scenario, plan, runs, models)
     limit = memory_limit_bytes()
     at_once = min(max(1, int(runs)), COMPARE_WORKERS)
     fits = "" if peak <= limit else " -- too much: refused"
@@ -271,7 +286,7 @@ def comparison_text(scenario, plan, runs):
             f"({MEMORY_FRACTION:.0%} of this machine's memory){fits}")
 
 
-def refuse_if_comparison_too_large(scenario, runs, plan=None):
+def refuse_if_comparison_too_large(scenario, runs, plan=None, models=None):
     """ScenarioError naming beam.count and run.save (run.save_every for one particle) and the
     number of models when ``runs`` runs of the scenario side by side exceed ``memory_limit_bytes()``.
 
@@ -281,7 +296,7 @@ def refuse_if_comparison_too_large(scenario, runs, plan=None):
     if runs <= 1:
         return
     plan = plan if plan is not None else scenario.plan()
-    held, peak = comparison_memory(scenario, plan, runs)
+    held, peak = comparison_memory(scenario, plan, runs, models)
     limit = memory_limit_bytes()
     if peak <= limit:
         return

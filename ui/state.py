@@ -513,7 +513,7 @@ class LabState(param.Parameterized):
         from tracker.plan import refuse_if_comparison_too_large
 
         try:
-            refuse_if_comparison_too_large(self.scenario, len(self.models), self.plan)
+            refuse_if_comparison_too_large(self.scenario, len(self.models), self.plan, models=self.models)
         except ScenarioError as exc:
             return _capped(str(exc))
         return ""

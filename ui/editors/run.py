@@ -26,7 +26,7 @@ def run_row(cache, name, default):
                      default=default, choices=e.choices)
 
 
-def plan_html(plan, error="", runs=2, scenario=None):
+def plan_html(plan, error="", runs=2, scenario=None, models=None):
     """Plan readout: dt, steps, saved states, a beam's particle count, memory (per run and for
     ``runs`` runs side by side, from ``tracker.plan``), fastest time scale, resolution."""
     if plan is None:
@@ -35,7 +35,7 @@ def plan_html(plan, error="", runs=2, scenario=None):
     from tracker.plan import comparison_memory, memory_limit_bytes
 
     runs = max(1, runs)
-    held, peak = comparison_memory(scenario, plan, runs) if scenario is not None else (0, plan.peak_bytes)
+    held, peak = comparison_memory(scenario, plan, runs, models) if scenario is not None else (0, plan.peak_bytes)
     limit = memory_limit_bytes()
     memory_style = (' style="color:#9a5b00;font-weight:600"'
                     if max(plan.memory_bytes, peak) >= min(LARGE_MEMORY_BYTES, limit) else "")
@@ -88,7 +88,7 @@ class RunEditor(Viewer):
         self.cache = RowCache(state)
         self.rows = []
         self._form = pn.Column(sizing_mode="stretch_width", margin=0)
-        self._plan = html_pane(plan_html(state.plan, state.error, len(state.models), state.scenario),
+        self._plan = html_pane(plan_html(state.plan, state.error, len(state.models), state.scenario, state.models),
                                stylesheets=[PLAN_CSS],
                                   sizing_mode="stretch_width", margin=(6, 0))
         self._layout = pn.Column(self._form, self._plan, sizing_mode="stretch_width", margin=0)
@@ -100,7 +100,8 @@ class RunEditor(Viewer):
         return self._layout
 
     def _show_plan(self, *_):
-        self._plan.object = plan_html(self.state.plan, self.state.error, len(self.state.models), self.state.scenario)
+        self._plan.object = plan_html(self.state.plan, self.state.error, len(self.state.models), self.state.scenario,
+                                     self.state.models)
 
     def _rebuild(self, *_):
         state = self.state

@@ -119,7 +119,8 @@ def test_the_plan_shows_the_count_and_the_memory_of_every_ticked_model(lab, monk
     assert f'data-bytes="{peak}"' in readout and "2 runs" in readout
     assert 'id="beam-count" data-count="5"' in editor._readout.object
     state.set_models(list(tracker.engine.MODEL_ORDER))
-    assert f'data-bytes="{tracker.plan.comparison_memory(state.scenario, state.plan, 4)[1]}"' in run_editor._plan.object
+    every = tracker.plan.comparison_memory(state.scenario, state.plan, 4, tracker.engine.MODEL_ORDER)[1]
+    assert f'data-bytes="{every}"' in run_editor._plan.object
     # four models that do not fit together are refused before a run, as tracker.compare would
     monkeypatch.setattr(tracker.plan, "memory_limit_bytes", lambda: peak)
     controls = RunControls(state)

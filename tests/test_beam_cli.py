@@ -158,6 +158,61 @@ def test_memory_of_a_plan_too_large_is_refused_naming_count_and_save(tmp_path, m
     assert lean[0].memory_bytes - lean[0].state_bytes == lean[1].memory_bytes - lean[1].state_bytes
 
 
+def side_by_side_peak(scenario, plan, runs):
+    """Peak bytes of ``runs`` runs of a comparison, recomputed from the plan by the rule stated in
+    tracker/plan.py: two runs at their peak while the others hold their kept arrays and
+    10 floats per particle (initial particles and the result's loss record); no field data here."""
+    finished = plan.memory_bytes - plan.state_bytes + 10 * 8 * scenario.particle_count
+    return (runs - 2) * finished + 2 * plan.peak_bytes
+
+
+def test_compare_refuses_models_that_do_not_fit_together_before_any_run(tmp_path, monkeypatch, capsys):
+    from tracker import engine
+    from tracker import plan as plan_module
+
+    path = beam_file(tmp_path, count=50)
+    scenario = load_scenario(path)
+    plan = scenario.plan()
+    three = ["none", "landau-lifshitz", "landau-lifshitz-quantum"]
+    assert plan_module.comparison_memory(scenario, plan, 1)[1] == plan.peak_bytes
+    assert plan_module.comparison_memory(scenario, plan, 3)[1] == side_by_side_peak(scenario, plan, 3)
+    # every run fits alone and two fit together, three do not
+    monkeypatch.setattr(plan_module, "memory_limit_bytes", lambda: side_by_side_peak(scenario, plan, 3) - 1)
+    started = []
+    monkeypatch.setattr(engine, "track", lambda *a, **k: started.append(a) or pytest.fail("a run started"))
+    with pytest.raises(ScenarioError) as info:
+        compare(scenario, models=three)
+    assert info.value.key == "beam.count" and started == []
+    message = str(info.value)
+    assert "comparing 3 models" in message and "beam.count = 50" in message and "run.save = 'all'" in message
+    assert 'run.save = "statistics"' in message and "fewer models" in message
+    plan_module.refuse_if_comparison_too_large(scenario, 2)   # the pair fits
+    # the command line refuses the same before running, and check says so too
+    assert main(["run", str(path), "--models", ",".join(three)]) == 2
+    assert main(["check", str(path), "--models", ",".join(three)]) == 2
+    errors = capsys.readouterr().err.splitlines()
+    assert len(errors) == 2 and all("comparing 3 models" in line and "beam.count" in line for line in errors)
+    assert main(["check", str(path), "--compare"]) == 0
+    out = capsys.readouterr().out
+    assert "memory, 2 runs" in out and "2 runs side by side (2 at once)" in out
+    assert main(["check", str(path)]) == 0
+    assert "--compare (2 runs) peaks at" in capsys.readouterr().out
+
+
+def test_compare_of_one_particle_refuses_naming_save_every(monkeypatch):
+    from builders import electron, scenario as one_particle
+    from tracker import plan as plan_module
+    from tracker.engine import MODEL_ORDER
+
+    single = one_particle([{"type": "uniform", "B": [0, 0, 1.0]}], duration=1e-10, save_every=10,
+                          particle=electron(gamma=10.0, direction=[1, 0, 0]))
+    plan = single.plan()
+    monkeypatch.setattr(plan_module, "memory_limit_bytes", lambda: side_by_side_peak(single, plan, 4) - 1)
+    with pytest.raises(ScenarioError) as info:
+        compare(single, models=list(MODEL_ORDER))
+    assert info.value.key == "run.save_every" and "comparing 4 models" in str(info.value)
+
+
 def test_physical_memory_limit_is_a_share_of_this_machine():
     from tracker.plan import MEMORY_FRACTION, memory_limit_bytes, physical_memory_bytes
 

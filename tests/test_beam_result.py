@@ -163,7 +163,7 @@ def test_hdf5_round_trip_full_and_statistics_only(tmp_path):
     assert again.warning_counts() == {"quantum": 1}
     assert not list(tmp_path.glob("*.part"))
 
-    only = BeamResult(t=times, scenario=s, stats=r.stats, meta={"complete": True})
+    only = BeamResult(t=times, scenario=s.with_run(save="statistics"), stats=r.stats, meta={"complete": True})
     assert not only.has_particles
     only.to_hdf5(tmp_path / "stats.h5")
     back = load_result(tmp_path / "stats.h5")

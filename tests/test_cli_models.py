@@ -68,3 +68,22 @@ def test_a_beam_runs_the_listed_models_too(tmp_path, capsys):
     for model in ("landau-lifshitz", "quantum-stochastic"):
         saved = load_beam_result(tmp_path / f"b-{model}.h5")
         assert saved.scenario.run.radiation_reaction == model and saved.count == 40
+
+
+def test_the_stochastic_models_photons_count_once_in_the_memory_of_a_comparison():
+    # the photon table is bounded by MAX_PHOTONS rows of BYTES_PER_PHOTON; a comparison counts its
+    # peak only when the stochastic model is among the runs (common practice, no source: an upper bound)
+    from tracker import plan as planning
+
+    scenario = Scenario.from_toml(scenario_text())
+    classical = scenario.plan()
+    stochastic = scenario.with_run(radiation_reaction="quantum-stochastic").plan()
+    assert classical.photon_bytes == 0 and stochastic.photon_bytes == planning.PHOTON_PEAK_BYTES
+    assert stochastic.peak_bytes == classical.peak_bytes + planning.PHOTON_PEAK_BYTES
+    without = planning.comparison_memory(scenario, classical, 3, ["none", "landau-lifshitz", "landau-lifshitz-quantum"])
+    with_photons = planning.comparison_memory(scenario, classical, 3, ["none", "landau-lifshitz", "quantum-stochastic"])
+    assert with_photons[1] - without[1] == planning.PHOTON_PEAK_BYTES
+    assert with_photons[0] - without[0] == planning.PHOTON_TABLE_BYTES
+    # the plan of a stochastic scenario gives the same comparison as naming the model
+    assert planning.comparison_memory(scenario, stochastic, 3, ["none", "landau-lifshitz", "quantum-stochastic"]) \
+        == with_photons

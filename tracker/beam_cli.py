@@ -145,15 +145,16 @@ def memory_text(scenario, plan):
     return (f"{human_bytes(plan.memory_bytes)} with beam.count = {scenario.particle_count:,} and run.save = "
             f"{save!r} ({what}{snaps}; particle state {human_bytes(plan.state_bytes)}); peak "
             f"{human_bytes(plan.peak_bytes)} of at most {human_bytes(memory_limit_bytes())} "
-            f"({MEMORY_FRACTION:.0%} of this machine's memory); --compare runs two at once, --models one per model")
+            f"({MEMORY_FRACTION:.0%} of this machine's memory) for one run")
 
 
 def check_beam(args, scenario):
     """Print the plan and regime of a beam scenario; returns the exit status 0."""
-    from .cli import print_table
+    from .cli import comparison_rows, print_table, requested_models, run_count
     from .regime import regime_rows
 
     plan = scenario.plan()
+    side_by_side = comparison_rows(scenario, plan, run_count(args), requested_models(args))
     run = scenario.run
     rows = [["title", scenario.title or "-"], *[list(r) for r in beam_rows(scenario)],
             ["fields", ", ".join(f.type for f in scenario.fields) or "none"],
@@ -163,6 +164,7 @@ def check_beam(args, scenario):
             ["saved states", f"{plan.saved_states:,} (every {plan.save_every})"],
             ["snapshots", ", ".join(f"{t:.4g} s" for t in run.snapshots) or "none"],
             ["memory estimate", memory_text(scenario, plan)],
+            *[list(r) for r in side_by_side],
             ["fastest time scale", f"{plan.period:.6g} s ({plan.period_source})" if plan.period else "none found"],
             ["resolution", f"{plan.steps_per_period:.4g} steps per period" if plan.steps_per_period else "-"],
             ["regime estimates", "for the centroid particle; particles away from it differ (chi and the loss grow "

@@ -28,7 +28,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from . import constants as k
+from .errors import ScenarioError
 from .io import atomic_path
+from .photons import PhotonTable
 
 #: per-particle saved arrays (n_saved, N[, 3]) and their SI units
 PARTICLE_ARRAYS = {
@@ -342,33 +344,159 @@ class BeamResult:
 
 
 def load_beam_result(path):
-    """Read a BeamResult written by ``BeamResult.to_hdf5`` (path to .h5)."""
+    """Read a BeamResult written by ``BeamResult.to_hdf5`` (path to .h5).
+
+    Every array is checked against the format before it is used (``validated_beam_arrays``:
+    dtypes, shapes consistent with ``t``, the particle count and the scenario's ``run.save``,
+    snapshots, the photon table); a truncated, damaged or foreign file, or one of a newer
+    format version, raises ScenarioError (one line, naming the file).
+    """
     import h5py
 
     from .scenario import Scenario
 
-    with h5py.File(path, "r") as h5:
+    where = f"result file {str(path)!r}"
+    try:
+        h5 = h5py.File(path, "r")
+    except (OSError, ValueError) as exc:
+        raise ScenarioError(where, f"cannot be opened as HDF5 ({exc}).") from None
+    with h5:
         if h5.attrs.get("format") != FORMAT:
-            raise ValueError(f"{path}: not a radorbit beam result file.")
-        base_dir = str(h5.attrs.get("base_dir", "")) or None
-        scenario = Scenario.from_toml(str(h5.attrs["scenario_toml"]), base_dir=base_dir)
-        arrays = {name: h5[name][()] for name in PARTICLE_ARRAYS if name in h5}
-        stats = {key: h5["stats"][key][()] for key in h5["stats"]}
-        snapshots = []
-        for j in sorted(h5["snapshots"], key=int):
-            g = h5["snapshots"][j]
-            snapshots.append((float(g.attrs["time"]), g["x"][()], g["u"][()], g["weight"][()]))
-        photons = None
-        if "photons" in h5 and "min_energy" in h5["photons"].attrs:
-            from .photons import PhotonTable
+            raise ScenarioError(where, "is not a radorbit beam result file.")
+        version = h5.attrs.get("format_version")
+        try:
+            version = int(version)
+        except (TypeError, ValueError):
+            raise ScenarioError(where, f"has no readable format_version ({version!r}).") from None
+        if version > FORMAT_VERSION:
+            raise ScenarioError(where, f"has format version {version}, newer than this radorbit reads "
+                                       f"({FORMAT_VERSION}); update radorbit to read it.")
+        try:
+            raw = _read_raw(h5, where)
+        except ScenarioError:
+            raise
+        except (KeyError, OSError, ValueError, TypeError, AttributeError) as exc:
+            raise ScenarioError(where, f"is damaged or incomplete ({exc}).") from None
+    try:
+        scenario = Scenario.from_toml(raw.pop("scenario_toml"), base_dir=raw.pop("base_dir"))
+    except ScenarioError as exc:
+        raise ScenarioError(where, f"holds a scenario that does not validate here ({exc}).") from None
+    if not isinstance(raw["meta"], dict) or not isinstance(raw["warnings"], list):
+        raise ScenarioError(where, "has metadata of the wrong form.")
+    arrays = validated_beam_arrays(raw, scenario, where)
+    photons = raw["photons"]
+    if photons is not None and not isinstance(photons, PhotonTable):
+        photons = _validated_photon_dict(photons, where)
+    return BeamResult(scenario=scenario, meta=raw["meta"], warnings=raw["warnings"], photons=photons, **arrays)
 
-            photons = PhotonTable.from_group(h5["photons"])
-        elif "photons" in h5:
-            g = h5["photons"]
-            photons = {key: g[key][()] for key in g}
-            if not g.attrs.get("is_dict", True):
-                photons = photons["data"]
-        return BeamResult(
-            t=h5["t"][()], scenario=scenario, lost=h5["lost"][()], lost_time=h5["lost_time"][()],
-            weight=h5["weight"][()], stats=stats, snapshots=snapshots, meta=json.loads(h5.attrs["meta_json"]),
-            warnings=json.loads(h5.attrs["warnings_json"]), photons=photons, **arrays)
+
+def _text_attr(value):
+    return value.decode("utf-8", errors="replace") if isinstance(value, bytes) else str(value)
+
+
+def _read_raw(h5, where):
+    """Everything of a beam result file as plain values (no checks beyond what reading needs)."""
+    import h5py
+
+    def dataset(node, name):
+        item = node[name]
+        if not isinstance(item, h5py.Dataset):
+            raise ScenarioError(where, f"{name!r} is a {type(item).__name__}, not a dataset.")
+        return item[()]
+
+    raw = {"scenario_toml": _text_attr(h5.attrs["scenario_toml"]),
+           "base_dir": _text_attr(h5.attrs.get("base_dir", "")) or None,
+           "meta": json.loads(h5.attrs["meta_json"]), "warnings": json.loads(h5.attrs["warnings_json"])}
+    for name in ("t", "lost", "lost_time", "weight"):
+        if name not in h5:
+            raise ScenarioError(where, f"the array {name!r} is missing.")
+        raw[name] = dataset(h5, name)
+    raw["particle_arrays"] = {name: dataset(h5, name) for name in PARTICLE_ARRAYS if name in h5}
+    stats = h5.get("stats")
+    raw["stats"] = {} if stats is None else {key: dataset(stats, key) for key in stats}
+    raw["snapshots"] = []
+    snaps = h5.get("snapshots")
+    for j in sorted(snaps or (), key=lambda name: int(name) if str(name).isdigit() else -1):
+        g = snaps[j]
+        raw["snapshots"].append((g.attrs["time"], dataset(g, "x"), dataset(g, "u"), dataset(g, "weight")))
+    raw["photons"] = None
+    if "photons" in h5:
+        group = h5["photons"]
+        if "min_energy" in group.attrs:
+            raw["photons"] = PhotonTable.from_group(group, where, count=len(raw["lost"]))
+        else:   # a hand-built result's photons (a dict of arrays, or one array)
+            values = {key: dataset(group, key) for key in group}
+            raw["photons"] = values if group.attrs.get("is_dict", True) else values.get("data")
+    return raw
+
+
+def _real(raw, name, where, shape):
+    """``raw`` as float64 after checking it holds real numbers of ``shape`` (None: any length)."""
+    a = np.asarray(raw)
+    if a.dtype.kind not in "fiu":
+        raise ScenarioError(where, f"the array {name!r} holds {a.dtype} values, not real numbers.")
+    if a.ndim != len(shape) or any(want is not None and got != want for got, want in zip(a.shape, shape)):
+        text = "(" + ", ".join("n" if w is None else str(w) for w in shape) + ("," if len(shape) == 1 else "") + ")"
+        raise ScenarioError(where, f"the array {name!r} has shape {a.shape}, not {text}.")
+    return np.ascontiguousarray(a, dtype=np.float64)
+
+
+def validated_beam_arrays(raw, scenario, where="beam result"):
+    """Check a beam result's arrays against the format and its scenario; return the keyword
+    arrays of ``BeamResult`` (float64; ``lost`` int8). Raises ScenarioError naming ``where``.
+
+    ``t`` (n,) non-decreasing; ``lost``, ``lost_time``, ``weight`` (N,) with N the scenario's
+    particle count; with ``run.save = "all"`` every per-particle array (n, N) or (n, N, 3),
+    with ``"statistics"`` none; statistics (n,); snapshots x, u (N, 3), weight (N,) at a
+    finite time.
+    """
+    t = _real(raw["t"], "t", where, (None,))
+    if np.any(~np.isfinite(t)) or np.any(np.diff(t) < 0):
+        raise ScenarioError(where, "the times 't' are not finite and non-decreasing.")
+    n, count = len(t), scenario.particle_count
+    lost = np.asarray(raw["lost"])
+    if lost.dtype.kind not in "iu":
+        raise ScenarioError(where, f"the array 'lost' holds {lost.dtype} values, not whole-number stop codes.")
+    if lost.shape != (count,):
+        raise ScenarioError(where, f"the array 'lost' has shape {lost.shape}, not ({count},) for the scenario's "
+                                   f"{count:,} particles.")
+    if np.any(lost < 0) or np.any(lost > np.iinfo(np.int8).max):
+        raise ScenarioError(where, "the array 'lost' holds stop codes outside 0..127.")
+    out = {"t": t, "lost": lost.astype(np.int8)}
+    for name in ("lost_time", "weight"):
+        out[name] = _real(raw[name], name, where, (count,))
+    arrays = raw["particle_arrays"]
+    if scenario.run.save == "all":
+        for name in PARTICLE_ARRAYS:
+            if name not in arrays:
+                raise ScenarioError(where, f"the array {name!r} is missing (the scenario saves every particle).")
+            out[name] = _real(arrays[name], name, where, (n, count, 3) if name in ("x", "u") else (n, count))
+    elif arrays:
+        raise ScenarioError(where, f"holds per-particle arrays ({', '.join(arrays)}) although its scenario saves "
+                                   "statistics only.")
+    out["stats"] = {}
+    for key, values in raw["stats"].items():
+        if key not in STAT_KEYS:
+            raise ScenarioError(where, f"the statistic {key!r} is not one of {', '.join(STAT_KEYS)}.")
+        out["stats"][key] = _real(values, f"stats/{key}", where, (n,))
+    out["snapshots"] = []
+    for j, (time, x, u, weight) in enumerate(raw["snapshots"]):
+        try:
+            time = float(time)
+        except (TypeError, ValueError):
+            time = float("nan")
+        if not np.isfinite(time):
+            raise ScenarioError(where, f"snapshot {j} has no finite time.")
+        out["snapshots"].append((time, _real(x, f"snapshots/{j}/x", where, (count, 3)),
+                                 _real(u, f"snapshots/{j}/u", where, (count, 3)),
+                                 _real(weight, f"snapshots/{j}/weight", where, (count,))))
+    return out
+
+
+def _validated_photon_dict(photons, where):
+    """A hand-built result's photons (a dict of arrays, or one array): real numbers only, kept as stored."""
+    values = photons if isinstance(photons, dict) else {"data": photons}
+    for key, v in values.items():
+        if np.asarray(v).dtype.kind not in "fiu":
+            raise ScenarioError(where, f"the array 'photons/{key}' holds {np.asarray(v).dtype} values, not real numbers.")
+    return photons

@@ -318,6 +318,34 @@ def requested_models(args):
     return [m for m in MODEL_ORDER if m in names]
 
 
+def run_count(args):
+    """How many runs ``radorbit run`` makes with these options: one per ``--models`` entry, two
+    with ``--compare``, else one (ScenarioError when both options are given)."""
+    models = requested_models(args)
+    if models is not None:
+        if getattr(args, "compare", False):
+            raise ScenarioError("--models", "give either --compare (the damped/undamped pair) or --models, not both.")
+        return len(models)
+    return 2 if getattr(args, "compare", False) else 1
+
+
+def comparison_rows(scenario, plan, runs, models=None):
+    """[(label, text)] of the memory of several runs side by side (``plan.comparison_memory``):
+    the asked-for number of runs, or with one run what --compare and every model would need.
+    Refuses (ScenarioError) when the asked-for runs do not fit, as ``run`` would."""
+    from .engine import MODEL_ORDER
+    from .plan import comparison_memory, comparison_text, human_bytes, refuse_if_comparison_too_large
+
+    if runs > 1:
+        refuse_if_comparison_too_large(scenario, runs, plan, models)
+        return [(f"memory, {runs} runs", comparison_text(scenario, plan, runs, models))]
+    peaks = {2: human_bytes(comparison_memory(scenario, plan, 2)[1]),
+             len(MODEL_ORDER): human_bytes(comparison_memory(scenario, plan, len(MODEL_ORDER), MODEL_ORDER)[1])}
+    return [("memory side by side", f"every run's result is kept: --compare (2 runs) peaks at {peaks[2]}, "
+                                    f"--models with all {len(MODEL_ORDER)} at {peaks[len(MODEL_ORDER)]} "
+                                    "(check --compare or --models A,B,... for the limit)")]
+
+
 def run_models(scenario, args, progress=None, cancel=None):
     """What ``radorbit run`` tracks, as {column name: result}: every model of ``--models``
     (named by model), the damped/undamped pair of ``--compare``, or the scenario's own model."""
@@ -325,8 +353,7 @@ def run_models(scenario, args, progress=None, cancel=None):
 
     models = requested_models(args)
     if models is not None:
-        if getattr(args, "compare", False):
-            raise ScenarioError("--models", "give either --compare (the damped/undamped pair) or --models, not both.")
+        run_count(args)   # refuses --compare with --models
         return dict(compare(scenario, models=models, progress=progress, cancel=cancel).results)
     if getattr(args, "compare", False):
         pair = compare(scenario, progress=progress, cancel=cancel)
@@ -371,6 +398,7 @@ def cmd_check(args):
 
         return check_beam(args, scenario)
     plan = scenario.plan()
+    side_by_side = comparison_rows(scenario, plan, run_count(args), requested_models(args))
     p = scenario.particle
     rows = [
         ["title", scenario.title or "-"],
@@ -380,7 +408,8 @@ def cmd_check(args):
         ["dt", f"{plan.dt:.6g} s"],
         ["steps", f"{plan.steps:,}"],
         ["saved states", f"{plan.saved_states:,} (every {plan.save_every})"],
-        ["memory estimate", human_bytes(plan.memory_bytes)],
+        ["memory estimate", f"{human_bytes(plan.memory_bytes)} per run (peak {human_bytes(plan.peak_bytes)})"],
+        *[list(r) for r in side_by_side],
         ["fastest time scale", f"{plan.period:.6g} s ({plan.period_source})" if plan.period else "none found"],
         ["resolution", f"{plan.steps_per_period:.4g} steps per period" if plan.steps_per_period else "-"],
     ]
@@ -452,6 +481,8 @@ def build_parser():
 
     check = sub.add_parser("check", help="validate a scenario and print its plan")
     check.add_argument("scenario", help="scenario TOML file")
+    check.add_argument("--compare", action="store_true", help="plan the memory of damped and undamped side by side")
+    check.add_argument("--models", metavar="A,B,...", help="plan the memory of these models side by side")
     add_run_overrides(check)
     check.set_defaults(func=cmd_check)
 

@@ -17,6 +17,7 @@ from .compile import compile_scenario
 from .config import CHUNK_STEPS
 from .kernel import NSTAT, reduce_partials, run_blocks, run_single
 from .photons import MAX_PHOTONS, PhotonTable
+from .plan import COMPARE_WORKERS
 from .radiation.reaction import MODELS as RR_MODELS
 from .radiation.reaction import QUANTUM_STOCHASTIC
 from .radiation.stochastic import HEADER, PC_DROPPED, PC_DROPPED_ENERGY, PC_RECORDED, PHOTON_COUNTERS, PHOTON_FIELDS
@@ -465,10 +466,18 @@ def compare(scenario, models=None, progress=None, cancel=None):
     Returns
     -------
     Comparison -- ``.results[model]``; ``.damped``/``.undamped`` for the default pair
+
+    Raises
+    ------
+    ScenarioError
+        Before any run starts, when the runs together would not fit in memory
+        (``plan.refuse_if_comparison_too_large``: every result is kept until the end).
     """
     from .errors import ScenarioError
+    from .plan import refuse_if_comparison_too_large
 
     if models is None:
+        refuse_if_comparison_too_large(scenario, 2)
         damped, undamped = damped_and_undamped(scenario)
         runs = [damped, undamped]
     else:
@@ -477,6 +486,7 @@ def compare(scenario, models=None, progress=None, cancel=None):
         if unknown or not names:
             raise ScenarioError("models", f"must name models from {', '.join(MODEL_ORDER)}, not {list(models)!r}.")
         names.sort(key=MODEL_ORDER.index)
+        refuse_if_comparison_too_large(scenario, len(names), models=names)
         runs = [scenario if scenario.run.radiation_reaction == m else scenario.with_run(radiation_reaction=m)
                 for m in names]
     fractions = [0.0] * len(runs)
@@ -491,7 +501,7 @@ def compare(scenario, models=None, progress=None, cancel=None):
 
         return report
 
-    with ThreadPoolExecutor(max_workers=2) as pool:
+    with ThreadPoolExecutor(max_workers=COMPARE_WORKERS) as pool:
         jobs = [pool.submit(track, s, reporter(i), cancel) for i, s in enumerate(runs)]
         results = [job.result() for job in jobs]
     if models is None:

@@ -38,6 +38,10 @@ WEIGHTING_POWER = {"position": 0.0, "positionOffset": 0.0, "momentum": 1.0, "ene
                    "weighting": 1.0, "id": 0.0, "emitterId": 0.0, "charge": 1.0, "mass": 1.0}
 
 
+#: columns of a photon table in a result file and their shape after the photon axis
+PHOTON_COLUMNS = {"t": (), "x": (3,), "p": (3,), "energy": (), "particle": (), "weight": ()}
+
+
 @dataclass
 class PhotonTable:
     """Recorded photons of one run (SI units; n photons).
@@ -113,12 +117,40 @@ class PhotonTable:
         group.attrs["dropped_energy"] = self.dropped_energy
 
     @classmethod
-    def from_group(cls, group):
-        """Read a table written by ``to_group``."""
-        return cls(t=group["t"][()], x=group["x"][()], p=group["p"][()], energy=group["energy"][()],
-                   particle=group["particle"][()].astype(np.int64), weight=group["weight"][()],
-                   min_energy=float(group.attrs["min_energy"]), dropped=int(group.attrs["dropped"]),
-                   dropped_energy=float(group.attrs["dropped_energy"]))
+    def from_group(cls, group, source="photons", count=None):
+        """Read a table written by ``to_group``, checked against the format: every column present,
+        real numbers, one row per photon, (n, 3) for x and p, whole particle indices below
+        ``count`` (the number of emitters, when known). Raises ScenarioError naming ``source``."""
+        from .errors import ScenarioError
+
+        columns = {}
+        for name, trailing in PHOTON_COLUMNS.items():
+            if name not in group or not hasattr(group[name], "shape"):
+                raise ScenarioError(source, f"the photon table lacks its {name!r} column.")
+            raw = np.asarray(group[name][()])
+            if raw.dtype.kind not in "fiu":
+                raise ScenarioError(source, f"the photon column {name!r} holds {raw.dtype} values, not real numbers.")
+            if raw.ndim != 1 + len(trailing) or raw.shape[1:] != trailing:
+                shape = "(n, 3)" if trailing else "(n,)"
+                raise ScenarioError(source, f"the photon column {name!r} has shape {raw.shape}, not {shape}.")
+            columns[name] = raw
+        rows = {len(a) for a in columns.values()}
+        if len(rows) != 1:
+            raise ScenarioError(source, "the photon columns differ in length "
+                                        f"({', '.join(f'{k}: {len(a)}' for k, a in columns.items())}).")
+        particle = columns["particle"]
+        if len(particle) and (np.any(particle != np.floor(particle)) or particle.min() < 0
+                              or (count is not None and particle.max() >= count)):
+            raise ScenarioError(source, "the photon column 'particle' holds indices that name no particle"
+                                        + (f" (0 to {count - 1})." if count is not None else "."))
+        try:
+            attrs = (float(group.attrs["min_energy"]), int(group.attrs["dropped"]),
+                     float(group.attrs["dropped_energy"]))
+        except (KeyError, TypeError, ValueError) as exc:
+            raise ScenarioError(source, f"the photon table's attributes are damaged ({exc}).") from None
+        real = {name: np.ascontiguousarray(a, dtype=np.float64) for name, a in columns.items() if name != "particle"}
+        return cls(particle=particle.astype(np.int64), min_energy=attrs[0], dropped=attrs[1],
+                   dropped_energy=attrs[2], **real)
 
     # ------------------------------------------------------------------ openPMD
     def to_openpmd(self, path, time=None, species="photons", software_version=""):

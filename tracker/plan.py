@@ -6,6 +6,11 @@ Memory (``memory_estimate``): what a run keeps (the saved per-particle arrays wi
 made while the saved chunks are joined and one chunk's buffers. Plans whose peak exceeds
 ``memory_limit_bytes()`` (``MEMORY_FRACTION`` of the physical memory) are refused with a
 message naming ``beam.count`` and ``run.save`` (``run.save_every`` for one particle).
+
+A comparison (``tracker.compare``: one run per radiation-reaction model) keeps every
+model's result until it returns, with ``COMPARE_WORKERS`` runs going at once:
+``comparison_memory`` counts that, and ``refuse_if_comparison_too_large`` refuses before
+any run starts, naming the same keys and the number of models.
 """
 
 import math
@@ -18,6 +23,7 @@ import numpy as np
 from .config import BYTES_PER_SAVED_STATE, CHUNK_STEPS, DEFAULT_STEPS_PER_PERIOD
 from .errors import ScenarioError
 from .kernel import NSTAT
+from .photons import BYTES_PER_PHOTON, MAX_PHOTONS
 from .step import STATE_SIZE
 
 #: default adaptive range: dt_min = dt0 / 1000, dt_max = 1000 dt0
@@ -36,6 +42,18 @@ STATE_FLOATS_PER_PARTICLE = 2 * STATE_SIZE + 2 * 7 + 2
 BYTES_PER_SAVED_STATISTICS = (NSTAT + 9) * 8
 #: bytes per particle and snapshot: x and u (6 floats) in the engine's dump buffers
 BYTES_PER_SNAPSHOT_PARTICLE = 6 * 8
+#: runs of a comparison that go at once, each on its own thread (``tracker.engine.compare``)
+COMPARE_WORKERS = 2
+#: floats per particle a finished run of a comparison holds besides its saved arrays: its
+#: scenario's cached initial particles (x0, u0, weight: 7) and the result's stop code, loss
+#: time and weight (3); the kernel state is freed when the run ends.
+RETAINED_FLOATS_PER_PARTICLE = 7 + 3
+
+#: the most the recorded photons of one quantum-stochastic run take, bytes: the kept table at its
+#: cap (``photons.MAX_PHOTONS`` rows) plus as many rows written into a chunk's buffers before they
+#: are copied out. An upper bound: a run that emits fewer photons uses less.
+PHOTON_TABLE_BYTES = MAX_PHOTONS * BYTES_PER_PHOTON
+PHOTON_PEAK_BYTES = 2 * PHOTON_TABLE_BYTES
 
 
 def physical_memory_bytes():
@@ -108,6 +126,8 @@ class RunPlan:
     dt_max: float = 0.0
     state_bytes: int = 0
     peak_bytes: int = 0
+    field_bytes: int = 0  #: the fields' bulk data (maps, programs), in state and peak; shared between runs
+    photon_bytes: int = 0  #: at most this much for recorded photons (stochastic model), included in peak
     warnings: tuple = ()  #: validity-style records (kind, message, time s) the run carries
 
 
@@ -185,8 +205,11 @@ def make_plan(scenario):
     saved = steps // run.save_every + 1 + (1 if steps % run.save_every else 0)
     kept, state, peak = memory_estimate(scenario, steps, saved)
     # the fields' bulk data (maps, formula programs) is loaded for the whole run
-    state += scenario.field_data_bytes
-    peak += scenario.field_data_bytes
+    field_bytes = scenario.field_data_bytes
+    state += field_bytes
+    peak += field_bytes
+    photon_bytes = PHOTON_PEAK_BYTES if run.radiation_reaction == "quantum-stochastic" else 0
+    peak += photon_bytes
     memory = kept + state
     if steps > run.max_steps:
         raise ScenarioError(
@@ -196,7 +219,7 @@ def make_plan(scenario):
             "Raise run.max_steps, shorten run.duration or give a coarser resolution.",
         )
     refuse_if_too_large(scenario, saved, memory, peak)
-    sizes = dict(state_bytes=state, peak_bytes=peak)
+    sizes = dict(state_bytes=state, peak_bytes=peak, field_bytes=field_bytes, photon_bytes=photon_bytes)
     if not run.adaptive:
         spp = period / dt if period else None
         return RunPlan(dt, steps, run.save_every, saved, memory, period, source, spp,
@@ -229,6 +252,70 @@ def refuse_if_too_large(scenario, saved, memory, peak):
               "run.save_every")
     raise ScenarioError("beam.count", f"the plan does not fit in memory with beam.count = {scenario.particle_count:,} "
                                       f"and run.save = {save!r}: {need}. Advice: {advice}.")
+
+
+def comparison_memory(scenario, plan, runs, models=None):
+    """(held bytes, peak bytes) of ``runs`` runs of ``plan`` side by side (``tracker.compare``).
+
+    Every run keeps its result (the plan's kept part plus ``RETAINED_FLOATS_PER_PARTICLE``)
+    until the comparison returns; ``COMPARE_WORKERS`` runs go at once, each at the plan's
+    peak; the fields' bulk data is loaded once and shared. One run gives the plan's peak.
+    The stochastic model's photons (``PHOTON_PEAK_BYTES`` at most, ``PHOTON_TABLE_BYTES`` kept)
+    count once when ``models`` names it (or, without ``models``, when the scenario's own model is it).
+    """
+    runs = max(1, int(runs))
+    at_once = min(runs, COMPARE_WORKERS)
+    field = plan.field_bytes
+    photons = plan.photon_bytes
+    stochastic = (photons > 0) if models is None else "quantum-stochastic" in models
+    finished = (plan.memory_bytes - plan.state_bytes) + RETAINED_FLOATS_PER_PARTICLE * 8 * scenario.particle_count
+    held = field + runs * finished + (PHOTON_TABLE_BYTES if stochastic else 0)
+    peak = (field + (runs - at_once) * finished + at_once * (plan.peak_bytes - field - photons)
+            + (PHOTON_PEAK_BYTES if stochastic else 0))
+    return held, peak
+
+
+def comparison_text(scenario, plan, runs, models=None):
+    """One line for people: what ``runs`` runs side by side hold and need at their peak, and the limit."""
+    held, peak = comparison_memory(scenario, plan, runs, models)
+    limit = memory_limit_bytes()
+    at_once = min(max(1, int(runs)), COMPARE_WORKERS)
+    fits = "" if peak <= limit else " -- too much: refused"
+    return (f"{runs} run{'s' if runs != 1 else ''} side by side ({at_once} at once): {human_bytes(held)} held "
+            f"when done, {human_bytes(peak)} at the peak, of at most {human_bytes(limit)} "
+            f"({MEMORY_FRACTION:.0%} of this machine's memory){fits}")
+
+
+def refuse_if_comparison_too_large(scenario, runs, plan=None, models=None):
+    """ScenarioError naming beam.count and run.save (run.save_every for one particle) and the
+    number of models when ``runs`` runs of the scenario side by side exceed ``memory_limit_bytes()``.
+
+    One run is the plan's own check (``refuse_if_too_large``, already made by ``make_plan``).
+    """
+    runs = int(runs)
+    if runs <= 1:
+        return
+    plan = plan if plan is not None else scenario.plan()
+    held, peak = comparison_memory(scenario, plan, runs, models)
+    limit = memory_limit_bytes()
+    if peak <= limit:
+        return
+    at_once = min(runs, COMPARE_WORKERS)
+    need = (f"{runs} runs (one per model) hold {human_bytes(held)} when done and need {human_bytes(peak)} at "
+            f"their peak ({at_once} at once), more than {human_bytes(limit)} ({MEMORY_FRACTION:.0%} of this "
+            f"machine's memory); one run alone needs {human_bytes(plan.peak_bytes)}")
+    run = scenario.run
+    if scenario.particle_count == 1:
+        raise ScenarioError("run.save_every", f"comparing {runs} models does not fit in memory: {need}. Run "
+                                              f"fewer models at once, raise run.save_every (now {run.save_every}) "
+                                              "or shorten run.duration.")
+    save = getattr(run, "save", "all")
+    advice = ("run fewer models at once, lower beam.count or raise run.save_every" if save == "statistics" else
+              'run fewer models at once, set run.save = "statistics" (memory independent of beam.count), lower '
+              "beam.count or raise run.save_every")
+    raise ScenarioError("beam.count", f"comparing {runs} models does not fit in memory with beam.count = "
+                                      f"{scenario.particle_count:,} and run.save = {save!r}: {need}. "
+                                      f"Advice: {advice}.")
 
 
 def resolution_notes(run, steps_per_period, source):

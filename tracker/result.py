@@ -264,7 +264,9 @@ def load_result(path):
             if "photons" in h5:
                 from .photons import PhotonTable
 
-                photons = PhotonTable.from_group(h5["photons"])
+                photons = PhotonTable.from_group(h5["photons"], where, count=1)
+        except ScenarioError:
+            raise
         except (KeyError, OSError, ValueError, TypeError) as exc:
             raise ScenarioError(where, f"is damaged or incomplete ({exc}).") from None
     arrays = validated_arrays(raw, where)

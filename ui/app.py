@@ -24,7 +24,7 @@ from .state import LabState
 from .tabs import LazyTabs, TabSpec
 from .theme import HEADER_CSS, PAGE, html_pane, section_card
 from .views import prepare_drawing
-from .views.beam import BeamNote, BeamView
+from .views.beam import BeamView
 from .views.export import ExportView
 from .views.orbits import OrbitView
 from .views.photons import PhotonView
@@ -208,7 +208,7 @@ def create_app(initial_scenario_path=None):
     sidebar = pn.Column(
         section_card("Run", controls),
         section_card("Scenario", ScenarioSource(state)),
-        section_card("Particle", ParticleEditor(state), BeamNote(state)),
+        section_card("Particle or beam", ParticleEditor(state)),
         section_card("Run settings and plan", RunEditor(state)),
         width=SIDEBAR_WIDTH, margin=(0, 0, 0, 6),
     )

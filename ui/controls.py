@@ -36,9 +36,18 @@ def validity_html(state):
     if not state.models:
         return ('<div class="ro-invalid" id="no-model" style="color:#b3261e;font-size:13px">'
                 "✗ tick at least one radiation-reaction model to run.</div>")
+    problem = state.memory_problem()
+    if problem:
+        return ('<div class="ro-invalid" id="memory-refused" style="color:#b3261e;font-size:13px;'
+                f'overflow-wrap:anywhere">✗ {html.escape(problem)}</div>')
     count = len(state.models)
     return (f'<div class="ro-valid" id="scenario-ok" style="color:#1e6b3a;font-size:13px">'
             f"✓ scenario valid · {steps:,} steps per run · {count} model{'s' if count > 1 else ''}</div>")
+
+
+def can_start(state):
+    """True when the Run button may start a run: a valid scenario, ticked models that fit together."""
+    return state.scenario is not None and not state.running and bool(state.models) and not state.memory_problem()
 
 
 def status_html(state):
@@ -95,7 +104,7 @@ class RunControls(Viewer):
 
     def _validity_changed(self, *_):
         self.validity.object = validity_html(self.state)
-        self.run.disabled = self.state.scenario is None or self.state.running or not self.state.models
+        self.run.disabled = not can_start(self.state)
 
     def _ticked(self, _event):
         if not self._syncing:
@@ -120,7 +129,7 @@ class RunControls(Viewer):
         else:
             self.progress.param.update(value=int(round(1000 * state.progress)), active=running)
         self.cancel.disabled = not running
-        self.run.disabled = running or state.scenario is None or not state.models
+        self.run.disabled = running or not can_start(state)
 
     def _run_clicked(self, _event):
         self.start()

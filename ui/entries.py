@@ -80,3 +80,12 @@ def list_entry(value):
     if isinstance(value, (list, tuple)):
         return ", ".join(raw_to_entry(v) for v in value)
     return raw_to_entry(value)
+
+
+def transverse_to_raw(text):
+    """Raw value of a transverse input ("0.5 mrad", or "0.5 mrad, 1 mrad" for the two axes):
+    one value, a list of the values typed (the Scenario names a wrong count), or None when empty."""
+    values = list_to_raw(text)
+    if values is None:
+        return None
+    return values[0] if len(values) == 1 else values

@@ -2,7 +2,7 @@
 
 The inputs themselves (name, kind, dimension, unit, bounds, default, label, doc) are
 ``tracker.inputs``: the same list the scenario parser and the TOML writer read, so a
-new [run] or [particle] key appears in the forms with no change here. Field inputs come
+new [run], [particle] or [beam] key appears in the forms with no change here. Field inputs come
 from ``tracker.fields.MODELS``. This module keeps only what is about the page: which
 inputs go together, short labels of choices, and example quantities for hints.
 """
@@ -16,6 +16,24 @@ PARTICLE_ENTRIES = inputs.PARTICLE
 
 #: [run] inputs by name
 RUN_ENTRIES = inputs.RUN
+
+#: [beam] inputs by name: the particle inputs (the centroid) and the beam's own
+BEAM_ENTRIES = inputs.BEAM
+
+#: the beam's own inputs (not [particle] keys), in the engine's order
+BEAM_ONLY = tuple(name for name in inputs.BEAM if name not in inputs.PARTICLE)
+
+#: beam inputs of a beam sampled about its centroid (count, seed, spreads, ...)
+BEAM_SAMPLED = tuple(name for name in BEAM_ONLY if name in inputs.BEAM_SAMPLING_KEYS)
+
+#: beam inputs of a beam read from a particle file (file, iteration)
+BEAM_FROM_FILE = tuple(name for name in BEAM_ONLY if name not in inputs.BEAM_SAMPLING_KEYS)
+
+#: the particle card's switch: the draft's table and its label
+PARTICLE_MODES = {"particle": "one particle", "beam": "a beam"}
+
+#: how a beam's particles are made, with a label for the selector
+BEAM_SOURCES = {"sampled": "sampled about a centroid", "file": "read from a particle file"}
 
 #: extra particle inputs per species that needs them
 SPECIES_EXTRAS = {"ion": ("charge_state", "mass_number"), "custom": ("mass", "charge")}
@@ -52,6 +70,18 @@ EXAMPLES = {
     "intensity": "2e20 W/cm**2",
     "dimensionless": "",
 }
+
+
+def entries(section):
+    """Input descriptors of the draft table ``section`` ('particle' or 'beam') by name."""
+    return BEAM_ENTRIES if section == "beam" else PARTICLE_ENTRIES
+
+
+def particle_file_types():
+    """File name endings a [beam] particle file may have (read from the engine), for the upload box."""
+    from tracker.particle_files import CSV_SUFFIXES, OPENPMD_SUFFIXES
+
+    return ",".join(OPENPMD_SUFFIXES + CSV_SUFFIXES)
 
 
 def species_names():

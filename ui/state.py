@@ -46,7 +46,8 @@ def value_errors(draft):
         except Exception as exc:  # a value no parser expected: still one message under its box
             errors.setdefault(key, f"{key}: cannot read {raw!r} ({type(exc).__name__}).")
 
-    for table, entries in (("run", schema.RUN_ENTRIES), ("particle", schema.PARTICLE_ENTRIES)):
+    for table, entries in (("run", schema.RUN_ENTRIES), ("particle", schema.PARTICLE_ENTRIES),
+                           ("beam", schema.BEAM_ENTRIES)):
         values = draft.get(table)
         if isinstance(values, dict):
             for name, raw in values.items():
@@ -66,6 +67,17 @@ def value_errors(draft):
             if p.name in raw_field:
                 check(p, raw_field[p.name], f"field[{i}].{p.name}")
     return errors
+
+
+def _table_keys(mode, source="sampled"):
+    """Keys the draft's particle table takes: [particle] keys for one particle; for a beam every
+    [beam] key but those of the other source (a file beam has no centroid or spreads)."""
+    from tracker.inputs import BEAM_SAMPLING_KEYS
+
+    if mode == "particle":
+        return set(schema.PARTICLE_ENTRIES)
+    other = BEAM_SAMPLING_KEYS if source == "file" else schema.BEAM_FROM_FILE
+    return {k for k in schema.BEAM_ENTRIES if k not in other}
 
 
 def field_model(type_name):
@@ -160,6 +172,8 @@ class LabState(param.Parameterized):
         self._controller = None
         self._pending_kind = None       # momentum key chosen but not typed yet
         self._pending_step_mode = None  # step mode chosen but not typed yet
+        self._pending_source = None     # how a beam's particles are made, chosen before its key is typed
+        self._put_aside = {}            # {key: value} a switch took out of the draft; back on the way back
 
     # ------------------------------------------------------------------ loading
     def load_dict(self, data, source=""):
@@ -177,7 +191,8 @@ class LabState(param.Parameterized):
             draft["field"] = [fields]
         self.source_error = ""
         self.source = source
-        self._pending_kind = self._pending_step_mode = None
+        self._pending_kind = self._pending_step_mode = self._pending_source = None
+        self._put_aside = {}
         self._forget_results()
         self.models = default_models(draft)
         self._set_draft(draft, relayout=True)
@@ -300,10 +315,75 @@ class LabState(param.Parameterized):
         ticked = [m for m in self.models if m != old or m == "none"]
         self.set_models([*ticked, model])
 
+    def particle_section(self):
+        """'beam' when the draft describes a beam ([beam] table), else 'particle'."""
+        return "beam" if "beam" in self.draft and "particle" not in self.draft else "particle"
+
+    def set_particle_mode(self, mode):
+        """Turn the draft's [particle] table into a [beam] table ('beam') or back ('particle').
+
+        The keys both tables share (species and its extras, position, momentum, direction) are
+        kept as typed. Keys the new table does not take (the beam's own on the way to one
+        particle) are put aside and come back on the way back, so switching loses nothing.
+        Nothing is invented: a new beam's count stays empty until typed (the Scenario says it
+        is required).
+        """
+        if mode not in schema.PARTICLE_MODES:
+            raise ScenarioError("particle", f"the mode must be one of {', '.join(schema.PARTICLE_MODES)}, "
+                                            f"not {mode!r}.")
+        current = self.particle_section()
+        if mode == current:
+            return
+        if current == "beam":
+            self._pending_source = self.beam_source()   # a beam comes back the way it was made
+        self._reshape(mode, self._pending_source or "sampled")
+
+    def beam_source(self):
+        """'file' when the draft's beam is read from a particle file, else 'sampled'."""
+        beam = self.table("beam")
+        if "file" in beam:
+            return "file"
+        if any(k in beam for k in schema.BEAM_SAMPLED):
+            return "sampled"
+        return self._pending_source or "sampled"
+
+    def set_beam_source(self, source):
+        """Make the beam's particles by sampling about a centroid ('sampled') or read them from a
+        particle file ('file'). Keys the other way needs are put aside and come back on the way back."""
+        if source not in schema.BEAM_SOURCES:
+            raise ScenarioError("beam", f"the source must be one of {', '.join(schema.BEAM_SOURCES)}, "
+                                        f"not {source!r}.")
+        if self.particle_section() == "beam" and source != self.beam_source():
+            self._reshape("beam", source)
+        self._pending_source = source
+
+    def _reshape(self, mode, source):
+        """Rebuild the particle or beam table for ``mode`` and a beam's ``source``: keys it does not
+        take go aside, keys put aside earlier that it takes come back (the draft's own values win)."""
+        allowed = _table_keys(mode, source)
+        current = self.particle_section()
+        old = dict(self.table(current))
+        new = {k: v for k, v in old.items() if k in allowed}
+        # a second table from a file (the Scenario refuses both) joins what was put aside
+        stray = {k: v for k, v in self.table(mode).items() if mode != current}
+        aside = {k: v for k, v in {**self._put_aside, **stray}.items() if k not in old}
+        for key in [k for k in aside if k in allowed and k not in new]:
+            new[key] = aside.pop(key)
+        aside.update({k: v for k, v in old.items() if k not in allowed})
+        self._put_aside = aside
+        if mode == "beam":
+            self._pending_source = source
+        # the new table takes the old one's place, so a downloaded file keeps its order
+        draft = {(mode if key == current else key): (new if key == current else copy.deepcopy(value))
+                 for key, value in self.draft.items() if key != mode}
+        draft.setdefault(mode, new)
+        self._set_draft(copy.deepcopy(draft), relayout=True)
+
     def set_species(self, name):
         """Switch the species; inputs that only belong to another species are dropped."""
+        section = self.particle_section()
         draft = copy.deepcopy(self.draft)
-        particle = draft["particle"] = dict(self.table("particle"))
+        particle = draft[section] = dict(self.table(section))
         particle["species"] = name
         for other, keys in schema.SPECIES_EXTRAS.items():
             if other != name:
@@ -313,7 +393,7 @@ class LabState(param.Parameterized):
 
     def momentum_kind(self):
         """Which momentum key the draft uses (the first given, or the engine's first)."""
-        particle = self.table("particle")
+        particle = self.table(self.particle_section())
         for key in schema.momentum_keys():
             if key in particle:
                 return key
@@ -321,10 +401,11 @@ class LabState(param.Parameterized):
 
     def set_momentum_kind(self, kind):
         """Give the momentum another way; the old value is dropped (no conversion in the UI)."""
-        if kind == self.momentum_kind() and kind in self.table("particle"):
+        section = self.particle_section()
+        if kind == self.momentum_kind() and kind in self.table(section):
             return
         draft = copy.deepcopy(self.draft)
-        particle = draft["particle"] = dict(self.table("particle"))
+        particle = draft[section] = dict(self.table(section))
         for key in schema.momentum_keys():
             particle.pop(key, None)
         if kind not in schema.scalar_momentum_keys():
@@ -379,7 +460,7 @@ class LabState(param.Parameterized):
     # ------------------------------------------------------------------ validation
     def _set_draft(self, draft, relayout=False):
         # remember the chosen momentum key and step mode while their box is empty
-        particle, run = draft.get("particle", {}), draft.get("run", {})
+        particle, run = draft.get("particle", draft.get("beam", {})), draft.get("run", {})
         if isinstance(particle, dict):
             given = [key for key in schema.momentum_keys() if key in particle]
             if given:
@@ -424,6 +505,19 @@ class LabState(param.Parameterized):
             return False
         return self.scenario is None or self.scenario.to_dict() != self.run_scenario.to_dict()
 
+    def memory_problem(self):
+        """The engine's refusal of the ticked models run side by side (``tracker.plan``:
+        every model's result is kept) as one line; '' when they fit or there is no plan."""
+        if self.scenario is None or self.plan is None or len(self.models) < 2:
+            return ""
+        from tracker.plan import refuse_if_comparison_too_large
+
+        try:
+            refuse_if_comparison_too_large(self.scenario, len(self.models), self.plan, models=self.models)
+        except ScenarioError as exc:
+            return _capped(str(exc))
+        return ""
+
     # ------------------------------------------------------------------ running
     @property
     def running(self):
@@ -444,9 +538,10 @@ class LabState(param.Parameterized):
         Returns
         -------
         bool
-            False when the draft is invalid, no model is ticked or a run is already going.
+            False when the draft is invalid, no model is ticked, the ticked models do not fit in
+            memory together (``memory_problem``) or a run is already going.
         """
-        if self.scenario is None or self.running or (job is None and not self.models):
+        if self.scenario is None or self.running or (job is None and (not self.models or self.memory_problem())):
             return False
         if job is None:
             job = functools.partial(tracker.compare, models=list(self.models))

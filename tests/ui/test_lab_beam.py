@@ -8,14 +8,14 @@ import numpy as np
 from bokeh.document import Document
 
 import tracker
+from tracker import radiation
 from tracker.beam_result import BeamResult
 from tracker.engine import Comparison
 from ui.app import TAB_BEAM, create_app
 from ui.bundled import bundled_path, bundled_scenarios
 from ui.state import LabState
 from ui.views import prepare_drawing
-from ui.views.beam import (HEAT_BINS, MAX_ORBIT_PARTICLES, MAX_ORBIT_POINTS, NO_PARTICLES, BeamView, beam_toml,
-                           prepare_beam)
+from ui.views.beam import HEAT_BINS, MAX_ORBIT_PARTICLES, MAX_ORBIT_POINTS, NO_PARTICLES, BeamView, prepare_beam
 
 BEAM_FILE = "laser_bunch_collision.toml"
 STAT_KEYS = ("t", "mean_gamma", "rms_gamma_spread", "emittance_x", "emittance_y", "radiated_energy",
@@ -54,12 +54,20 @@ def beam_comparison(count=40, n_saved=25, per_particle=True):
     return Comparison(damped=damped, undamped=undamped)
 
 
-def test_bundled_beam_scenario_is_listed_and_loads():
+def test_bundled_beam_scenario_is_listed_and_loads_into_the_beam_form():
+    from ui.editors.particle import ParticleEditor
+
     assert BEAM_FILE in bundled_scenarios()
     state = LabState()
     assert state.load_bundled(BEAM_FILE)
     assert state.scenario is not None and state.scenario.beam is not None, state.error
-    assert beam_toml(state.draft).startswith("[beam]") and "count = 1000" in beam_toml(state.draft)
+    editor = ParticleEditor(state)
+    assert state.particle_section() == "beam" and state.beam_source() == "sampled"
+    rows = {row.key: row for row in editor.rows}
+    assert rows["beam.count"].boxes[0].value == "1000"
+    assert rows["beam.divergence"].boxes[0].value == "0.5 mrad"
+    assert [box.value for box in rows["beam.size"].boxes] == ["2 um", "2 um", "5 um"]
+    assert "1,000 particles" in editor._readout.object
 
 
 def test_beam_view_data_shapes_with_particle_arrays():
@@ -124,3 +132,31 @@ def test_summary_of_a_beam_run_points_to_the_beam_tab():
 
     text = summary_html(beam_comparison(per_particle=False))
     assert "see the Beam tab" in text and "summary-table" in text
+
+
+def test_spectrum_tab_of_a_beam_is_the_engines_incoherent_sum_and_refuses_statistics_only():
+    from ui.views.spectrum import SpectrumPanel
+
+    data = tracker.load_scenario(bundled_path(BEAM_FILE)).to_dict()
+    data["beam"]["count"] = 6
+    data["run"]["save"] = "all"
+    scenario = tracker.Scenario.from_dict(data)
+    comparison = tracker.compare(scenario)
+    panel = SpectrumPanel()
+    panel.update(comparison)
+    assert "particle 0 of the beam" in panel.map_status.object
+    panel.method.value = "synchrotron"
+    panel.compute_spectrum(wait=True)
+    assert "incoherent sum over the beam's 6 particles" in panel.status.object, panel.status.object
+    # the drawn curve is tracker.radiation's beam spectrum (sum over particles of w_i S_i) on the same grid
+    x = np.asarray(panel.spectrum_sources["landau-lifshitz"].data["x"], dtype=float)
+    y = np.asarray(panel.spectrum_sources["landau-lifshitz"].data["y"], dtype=float)
+    scale = {"eV": 1.0, "keV": 1e3, "MeV": 1e6}[panel.spectrum_figure.xaxis.axis_label.split("(")[1][:-1]]
+    omega = x * scale * tracker.constants.e / tracker.constants.hbar
+    want = radiation.synchrotron_spectrum(comparison.damped, omega)
+    np.testing.assert_allclose(y[np.isfinite(y)], want[np.isfinite(y)], rtol=1e-6)
+
+    data["run"]["save"] = "statistics"
+    lean = tracker.compare(tracker.Scenario.from_dict(data))
+    panel.update(lean)
+    assert panel.compute_button.disabled and "statistics only" in panel.status.object

@@ -406,3 +406,22 @@ def click_tick(page, model):
     words = page.locator(f".model-{model}").get_by_text(MODEL_WORDS[model], exact=True)
     box = words.bounding_box()
     page.mouse.click(box["x"] + box["width"] / 2, box["y"] + box["height"] / 2)
+
+
+def test_a_beam_made_in_the_particle_card_runs_and_shows_in_the_beam_tab(page, lab_url):
+    errors = []
+    open_lab(page, lab_url, errors)
+    open_bundled(page, RING)
+    page.locator(".in-particle-mode").get_by_text("a beam", exact=True).click()
+    # the beam's count is required: the engine says so under its box, and nothing runs
+    expect(page.locator("#err-beam-count")).to_contain_text("is required")
+    expect(page.locator(".run-button button")).to_be_disabled()
+    type_into(page, ".in-beam-count", "4")
+    type_into(page, ".in-beam-energy_spread", "0.01")
+    expect(page.locator("#scenario-ok")).to_be_visible()
+    expect(page.locator("#plan-particles")).to_have_text("4")
+    expect(page.locator("#beam-count")).to_contain_text("4 particles")
+    run_and_wait(page)
+    page.locator(".bk-tab", has_text="Beam").click()
+    expect(page.get_by_text("4 of 4 particles drawn")).to_be_visible()
+    assert errors == []

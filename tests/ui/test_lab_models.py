@@ -158,3 +158,15 @@ def test_prepare_photons_counts_every_emitted_photon_in_the_spectrum():
     widths = np.diff(edges)[bins]
     assert np.sum(np.asarray(points["y"]) * widths) == pytest.approx(table.weight.sum(), rel=1e-12)
     assert prepare_drawing(comparison)["photons"]["counts"] == data["counts"]
+
+
+def test_error_bars_are_the_poisson_errors_and_stay_on_the_log_axis():
+    from ui.views.photons import BAR_FLOOR, _points
+
+    centers = np.array([1.0, 2.0, 3.0, 4.0])
+    density = np.array([4.0, 1.0, 0.0, 9.0])
+    error = np.array([2.0, 1.0, 0.0, 1.0])   # the one-photon bin's error equals its value
+    p = _points(centers, density, error, 1.0, 1.0)
+    np.testing.assert_array_equal(p["x"], [1.0, 2.0, 4.0])        # the empty bin is left out
+    np.testing.assert_array_equal(p["high"], [6.0, 2.0, 10.0])
+    np.testing.assert_array_equal(p["low"], [2.0, BAR_FLOOR * 1.0, 8.0])

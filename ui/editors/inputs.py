@@ -12,7 +12,8 @@ from panel.viewable import Viewer
 
 from tracker.fields.base import REQUIRED
 
-from ..entries import entry_to_raw, list_entry, list_to_raw, raw_to_entry, vector_entries, vector_to_raw
+from ..entries import (entry_to_raw, list_entry, list_to_raw, raw_to_entry, transverse_to_raw, vector_entries,
+                       vector_to_raw)
 from ..format import unit_label
 from ..schema import hint
 from ..state import error_belongs_to, key_path
@@ -108,7 +109,7 @@ class EntryRow(Viewer):
     path : tuple
         Draft path, e.g. ``('field', 0, 'B')``.
     label : str
-    kind : {'scalar', 'integer', 'vector', 'choice', 'boolean'}
+    kind : {'scalar', 'integer', 'vector', 'choice', 'boolean', 'list', 'transverse'}
     unit : str
         SI unit label ('' for a plain number).
     dimension : str
@@ -157,11 +158,13 @@ class EntryRow(Viewer):
             ]
             for box in self._boxes:
                 box.param.watch(self._vector_changed, "value")
-        elif kind == "list":
-            box = pn.widgets.TextInput(value=list_entry(value), placeholder="values separated by commas",
+        elif kind in ("list", "transverse"):
+            holder = ("values separated by commas" if kind == "list" else
+                      f"{placeholder_texts(kind, default)}; or two values, e1, e2")
+            box = pn.widgets.TextInput(value=list_entry(value), placeholder=holder,
                                        width=SCALAR_WIDTH + COMPONENT_WIDTH, margin=(2, 4),
                                        css_classes=[f"in-{name}"], stylesheets=[BAD_INPUT_CSS])
-            box.param.watch(self._list_changed, "value")
+            box.param.watch(self._list_changed if kind == "list" else self._transverse_changed, "value")
             self._boxes = [box]
         else:
             box = pn.widgets.TextInput(value=raw_to_entry(value), placeholder=placeholder_texts(kind, default),
@@ -198,7 +201,7 @@ class EntryRow(Viewer):
             elif self.kind == "vector":
                 for box, text in zip(self._boxes, vector_entries(value)):
                     box.value = text
-            elif self.kind == "list":
+            elif self.kind in ("list", "transverse"):
                 self._boxes[0].value = list_entry(value)
             else:
                 self._boxes[0].value = raw_to_entry(value)
@@ -216,6 +219,10 @@ class EntryRow(Viewer):
     def _list_changed(self, event):
         if not self._syncing:
             self.state.set_value(self.path, list_to_raw(event.new))
+
+    def _transverse_changed(self, event):
+        if not self._syncing:
+            self.state.set_value(self.path, transverse_to_raw(event.new))
 
     def _flag_changed(self, event):
         # off is the default: leave the key out rather than write false

@@ -1,4 +1,5 @@
-"""Run editor: duration, time step, pusher, radiation reaction, output cadence; the live plan."""
+"""Run editor: duration, time step, pusher, radiation reaction, output cadence; the live plan
+(with a beam's particle count and the memory of every ticked model's run, from ``tracker.plan``)."""
 
 import html
 
@@ -25,27 +26,47 @@ def run_row(cache, name, default):
                      default=default, choices=e.choices)
 
 
-def plan_html(plan, error="", runs=2):
-    """Plan readout: dt, steps, saved states, memory (per run, ``runs`` runs), fastest time scale, resolution."""
+def plan_html(plan, error="", runs=2, scenario=None, models=None):
+    """Plan readout: dt, steps, saved states, a beam's particle count, memory (per run and for
+    ``runs`` runs side by side, from ``tracker.plan``), fastest time scale, resolution."""
     if plan is None:
         return ('<div class="ro-plan" id="plan-readout"><i>No plan: the scenario is not valid yet'
                 f'{" (see the message above)" if error else ""}.</i></div>')
-    memory_style = ' style="color:#9a5b00;font-weight:600"' if plan.memory_bytes >= LARGE_MEMORY_BYTES else ""
+    from tracker.plan import comparison_memory, memory_limit_bytes
+
+    runs = max(1, runs)
+    held, peak = comparison_memory(scenario, plan, runs, models) if scenario is not None else (0, plan.peak_bytes)
+    limit = memory_limit_bytes()
+    memory_style = (' style="color:#9a5b00;font-weight:600"'
+                    if max(plan.memory_bytes, peak) >= min(LARGE_MEMORY_BYTES, limit) else "")
     period = (f"{quantity_text(plan.period, TIME_UNITS)} ({html.escape(plan.period_source)})"
               if plan.period else "none found")
+    per_run = f'<span id="plan-memory"{memory_style}>{human_bytes(plan.memory_bytes)}</span> per run'
+    beam = scenario is not None and scenario.beam is not None
+    if beam:
+        save = scenario.run.save
+        per_run += (f" with run.save = {html.escape(repr(save))} "
+                    f"({'every particle' if save == 'all' else 'statistics only, independent of the count'}; "
+                    f"particle state {human_bytes(plan.state_bytes)})")
+    side = (f'<span id="plan-memory-total" data-bytes="{peak}">{human_bytes(peak)}</span> at the peak for '
+            f"{runs} run{'s' if runs != 1 else ''} (one per ticked model, every result kept), of at most "
+            f"{human_bytes(limit)}")
     rows = [
         ("time step dt", f'<span id="plan-dt">{quantity_text(plan.dt, TIME_UNITS, 5)}</span>'),
-        ("steps", f'<span id="plan-steps">{plan.steps:,}</span>'),
+        ("steps", f'<span id="plan-steps">{plan.steps:,}</span>' + (" per particle" if beam else "")),
         ("saved states", f"{plan.saved_states:,} (every {plan.save_every})"),
-        ("memory estimate", f'<span id="plan-memory"{memory_style}>{human_bytes(plan.memory_bytes)}</span> '
-                            f"per run, {runs} run{'s' if runs != 1 else ''} (one per ticked model)"),
+        ("memory estimate", per_run),
+        ("memory, all runs", side),
         ("fastest time scale", period),
         ("resolution", f"{number_text(plan.steps_per_period, 4)} steps per period" if plan.steps_per_period else "–"),
     ]
+    if beam:
+        rows.insert(0, ("particles", f'<span id="plan-particles">{scenario.particle_count:,}</span>'))
     if getattr(plan, "adaptive", False):
-        rows[1] = ("steps (at the initial dt)", rows[1][1])
-        rows.insert(1, ("adaptive dt range", f"{quantity_text(plan.dt_min, TIME_UNITS, 4)} … "
-                                             f"{quantity_text(plan.dt_max, TIME_UNITS, 4)}"))
+        at = 2 if beam else 1
+        rows[at] = ("steps (at the initial dt)", rows[at][1])
+        rows.insert(at, ("adaptive dt range", f"{quantity_text(plan.dt_min, TIME_UNITS, 4)} … "
+                                              f"{quantity_text(plan.dt_max, TIME_UNITS, 4)}"))
     body = "".join(f"<tr><th>{k}</th><td>{v}</td></tr>" for k, v in rows)
     return f'<table class="ro-plan" id="plan-readout">{body}</table>'
 
@@ -67,7 +88,8 @@ class RunEditor(Viewer):
         self.cache = RowCache(state)
         self.rows = []
         self._form = pn.Column(sizing_mode="stretch_width", margin=0)
-        self._plan = html_pane(plan_html(state.plan, state.error, len(state.models)), stylesheets=[PLAN_CSS],
+        self._plan = html_pane(plan_html(state.plan, state.error, len(state.models), state.scenario, state.models),
+                               stylesheets=[PLAN_CSS],
                                   sizing_mode="stretch_width", margin=(6, 0))
         self._layout = pn.Column(self._form, self._plan, sizing_mode="stretch_width", margin=0)
         state.param.watch(self._rebuild, "layout_version")
@@ -78,7 +100,8 @@ class RunEditor(Viewer):
         return self._layout
 
     def _show_plan(self, *_):
-        self._plan.object = plan_html(self.state.plan, self.state.error, len(self.state.models))
+        self._plan.object = plan_html(self.state.plan, self.state.error, len(self.state.models), self.state.scenario,
+                                     self.state.models)
 
     def _rebuild(self, *_):
         state = self.state

@@ -78,10 +78,10 @@ class FileEntryRow(_SpecialRow):
     """A file name (relative to the scenario file, or absolute) and an upload button.
 
     An upload is kept for the session (``LabState.store_upload``) and the draft names
-    it by its absolute path.
+    it by its absolute path. ``stacked`` puts the upload button under the name (narrow columns).
     """
 
-    def __init__(self, state, path, label, doc="", default=REQUIRED, accept=".h5,.hdf5,.csv"):
+    def __init__(self, state, path, label, doc="", default=REQUIRED, accept=".h5,.hdf5,.csv", stacked=False):
         super().__init__(state, path, label, doc)
         value = state.value(self.path)
         name = slug(self.key)
@@ -93,7 +93,11 @@ class FileEntryRow(_SpecialRow):
         self._name.param.watch(self._typed, "value")
         self._upload.param.watch(self._uploaded, "value")
         self._boxes = [self._name]
-        self._layout = self._layout_with(self._name, self._upload)
+        if stacked:   # a narrow column (the sidebar): the upload button goes under the name
+            self._layout = self._layout_with(self._name, below=(pn.Row(self._upload,
+                                                                       margin=(0, 0, 0, LABEL_WIDTH + 8)),))
+        else:
+            self._layout = self._layout_with(self._name, self._upload)
 
     def _typed(self, event):
         text = (event.new or "").strip()

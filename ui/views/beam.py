@@ -122,38 +122,6 @@ def single_view_comparison(comparison):
     return SimpleNamespace(results=results, damped=results.get(reference))
 
 
-def beam_toml(draft):
-    """The draft's [beam] table as TOML-like text (read-only display)."""
-    beam = draft.get("beam") if isinstance(draft, dict) else None
-    if not isinstance(beam, dict):
-        return ""
-    lines = ["[beam]"] + [f"{key} = {value!r}".replace("'", '"') for key, value in beam.items()]
-    return "\n".join(lines)
-
-
-class BeamNote(Viewer):
-    """Read-only [beam] keys of the draft, shown under the particle editor for a beam scenario."""
-
-    def __init__(self, state, **params):
-        super().__init__(**params)
-        self.state = state
-        self.pane = pn.pane.HTML("", sizing_mode="stretch_width", visible=False)
-        state.param.watch(self._show, "draft")
-        self._show()
-
-    def _show(self, *_):
-        text = beam_toml(self.state.draft)
-        self.pane.visible = bool(text)
-        if text:
-            self.pane.object = ('<div class="ro-note">This scenario tracks a beam. Its [beam] table is shown '
-                                'read-only here (no form yet); edit it in the scenario file and load it again. '
-                                'The particle form above does not apply to beam scenarios.'
-                                f'<pre style="font-size:12px">{html.escape(text)}</pre></div>')
-
-    def __panel__(self):
-        return self.pane
-
-
 class BeamView(Viewer):
     """Energy distribution (heat map), statistics curves and orbit projections of a beam run."""
 

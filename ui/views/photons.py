@@ -46,8 +46,9 @@ def _points(centers, density, error, scale_x, scale_y):
     keep = density > 0
     y = density[keep] / scale_y
     e = error[keep] / scale_y
-    # a bar reaching zero or below cannot be drawn on a log axis: it stops at a tenth of the value
-    low = np.where(y - e > 0, y - e, y * BAR_FLOOR)
+    # a bar reaching zero cannot be drawn on a log axis (nor one reaching round-off above it): a bar
+    # going below a tenth of the value stops there
+    low = np.maximum(y - e, y * BAR_FLOOR)
     return {"x": centers[keep] / scale_x, "y": y, "low": low, "high": y + e}
 
 
@@ -197,7 +198,7 @@ class PhotonView(Viewer):
             apply_to_models(clear)
             return
         notes = ["Each point is a bin of recorded photons (real photons: weights applied) with its Poisson "
-                 "standard error (a bar that reaches zero stops at a tenth of the value); the dot-dashed line "
+                 "standard error (a bar reaching below a tenth of the value stops there); the dot-dashed line "
                  "is the classical synchrotron-function spectrum of the same orbit, which the quantum "
                  "spectrum approaches as χ → 0.", *data["notes"]]
         self.message.object = "".join(f'<div class="ro-note">{html.escape(n)}</div>' for n in notes)

@@ -102,18 +102,26 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
         ``runs``: {model: (photon energy eV (n,), value (n,))}, ``ylabel``, ``note`` (text),
         ``method`` (the one used).
     """
+    from tracker.radiation.beam_spectrum import is_beam, require_particles
     from tracker.radiation.choice import check_synchrotron, choose_method, clip_to_ceiling, quantum_note
+    from tracker.radiation.synchrotron import largest_critical_frequency
 
     runs = {}
     notes = []
     reference = reference_run(comparison)
+    beam = is_beam(reference)
+    if beam:
+        require_particles(reference)   # a statistics-only beam: refused with the reason
+        notes.append(f"the incoherent sum over the beam's {reference.count:,} particles (intensities add); the "
+                     "method is chosen by particle 0's orbit")
+    probe = reference.particle(0) if beam else reference   # the method choice looks at one orbit
     if method == "auto":
-        method, reason = choose_method(reference, None if direction is None else direction[None, :])
+        method, reason = choose_method(probe, None if direction is None else direction[None, :])
         notes.append(f"method chosen: {reason}")
         if method == "synchrotron" and direction is not None:
             notes.append("the direction does not apply (summed over all directions)")
     elif method == "synchrotron":
-        check_synchrotron(reference)
+        check_synchrotron(probe)
     if omega_range is not None:
         omega = np.geomspace(omega_range[0], omega_range[1], RANGE_POINTS)
     elif method == "synchrotron":
@@ -121,16 +129,16 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
     else:
         direction = radiation.default_direction(reference) if direction is None else direction
         omega = radiation.default_omega(reference, direction[None, :], SPECTRUM_POINTS[method])
-    omega, cut = clip_to_ceiling(reference, omega)
-    notes += [n for n in (cut, quantum_note(reference)) if n]
+    omega, cut = clip_to_ceiling(probe, omega)
+    notes += [n for n in (cut, quantum_note(probe)) if n]
     results = {name: result for name, result in runs_of(comparison).items() if result is reference}
     results.update(runs_of(comparison))  # the reference run first: the spectra share its grid
     if method == "synchrotron":
         found = radiation.spectra(results, method, omega)  # the function `radorbit spectrum` calls
         runs = {name: (found.photon_energy_ev, values) for name, values in found.values.items()}
         ylabel = "dW/dω (J s), all directions"
-        wc = radiation.critical_frequency(reference)
-        notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc.max())):.4g} eV")
+        wc = largest_critical_frequency(reference)
+        notes.append(f"largest critical photon energy {float(radiation.photon_energy_ev(wc)):.4g} eV")
     else:
         direction = radiation.default_direction(reference) if direction is None else direction
         found = radiation.spectra(results, method, omega, direction[None, :])
@@ -143,6 +151,19 @@ def compute_spectra(comparison, method, omega_range=None, direction=None):
     return {"runs": runs, "ylabel": ylabel, "note": "; ".join(notes), "method": method}
 
 
+def map_orbit(result):
+    """The orbit an angular map is drawn for: the run itself, or particle 0 of a beam.
+
+    Raises ScenarioError('result') for a beam saved as statistics only (no orbits).
+    """
+    from tracker.radiation.beam_spectrum import is_beam, require_particles
+
+    if not is_beam(result):
+        return result
+    require_particles(result)
+    return result.particle(0)
+
+
 def compute_maps(comparison, index, frame):
     """dP/dOmega (W/sr) of every model run at the reference run's saved state ``index`` (others: nearest time).
 
@@ -152,7 +173,7 @@ def compute_maps(comparison, index, frame):
         ``maps`` {model: (n_theta, n_phi) array}, ``theta_extent`` (display units),
         ``theta_label``, ``time`` (s), ``gamma``.
     """
-    reference = reference_run(comparison)
+    reference = map_orbit(reference_run(comparison))
     t = float(reference.t[index])
     gamma = float(reference.gamma[index])
     phi = np.linspace(0.0, 2.0 * np.pi, MAP_SHAPE[1])
@@ -166,6 +187,7 @@ def compute_maps(comparison, index, frame):
         label = "θ from +z (deg)"
     maps = {}
     for name, result in runs_of(comparison).items():
+        result = map_orbit(result)
         i = int(np.clip(np.searchsorted(result.t, t), 0, len(result.t) - 1))
         maps[name] = radiation.angular_distribution(result, i, theta, phi, axis=frame)
     return {"maps": maps, "theta_extent": extent, "theta_label": label, "time": t, "gamma": gamma}
@@ -297,9 +319,16 @@ class SpectrumPanel(Viewer):
         show_legend_items([self.spectrum_figure], runs)
         for name, pane in self.map_panes.items():
             pane.visible = name in runs
-        reference = reference_run(comparison)
+        try:
+            reference = map_orbit(reference_run(comparison))
+        except ScenarioError as exc:   # a statistics-only beam: nothing to compute, and why
+            self._comparison = None
+            self.time_slider.disabled = self.compute_button.disabled = True
+            self.status.object = f"No spectrum: {exc}"
+            self.map_status.object = ""
+            return
         n = len(reference.t)
-        peak = int(np.argmax(reference.power)) if n else 0
+        peak = int(np.nanargmax(reference.power)) if n and np.any(np.isfinite(reference.power)) else 0
         self.time_slider.param.update(start=0, end=max(1, n - 1), value=peak, disabled=n < 2)
         self.compute_button.disabled = n < 2
         self.status.object = "Ready: press “Compute spectrum”." if n >= 2 else "The run saved too few states."
@@ -309,7 +338,7 @@ class SpectrumPanel(Viewer):
         """Recompute and draw dP/dOmega for the selected saved state (cheap: one state per run)."""
         if self._comparison is None:
             return
-        index = int(np.clip(self.time_slider.value, 0, len(reference_run(self._comparison).t) - 1))
+        index = int(np.clip(self.time_slider.value, 0, len(map_orbit(reference_run(self._comparison)).t) - 1))
         try:
             data = compute_maps(self._comparison, index, self.frame.value)
         except ScenarioError as exc:
@@ -323,8 +352,11 @@ class SpectrumPanel(Viewer):
             fig = self.map_figures[name]
             fig.y_range.update(start=0.0, end=extent)
             fig.yaxis.axis_label = data["theta_label"]
-        self.map_status.object = (f"t = {data['time']:.4g} s, γ = {data['gamma']:.6g}; peak dP/dΩ = {top:.4g} W/sr "
-                                  "(per unit emission time)")
+        from tracker.radiation.beam_spectrum import is_beam
+
+        whose = "particle 0 of the beam; " if is_beam(reference_run(self._comparison)) else ""
+        self.map_status.object = (f"{whose}t = {data['time']:.4g} s, γ = {data['gamma']:.6g}; peak dP/dΩ = "
+                                  f"{top:.4g} W/sr (per unit emission time)")
 
     def _on_map_change(self, *_):
         self.draw_maps()
